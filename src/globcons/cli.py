@@ -1,0 +1,227 @@
+"""The ``globcons`` command: parses arguments, calls the library, writes outputs. No science here.
+
+Exit status: 0 success, 2 bad input or usage (one line on stderr naming the file, line and problem),
+1 an internal failure. ``--debug`` shows tracebacks.
+"""
+
+from __future__ import annotations
+
+import functools
+import os
+import sys
+import traceback
+import warnings
+from typing import Callable
+
+import click
+
+from ._version import __version__
+from .alphabet import RESIDUE_GROUPS
+from .classes import ClassRules
+from .columns import ScoreOptions, score_columns, summarise
+from .errors import GlobconsError
+from .io import FORMATS, read_alignment
+from .tables import TABLE_FORMATS, check_not_input, write_table
+from .weights import SCHEMES
+
+PROG = "globcons"
+
+
+class _Reporter:
+    """Messages to stderr, honouring --quiet; each distinct warning is shown once."""
+
+    def __init__(self, quiet: bool = False) -> None:
+        self.quiet = quiet
+        self._seen: set[str] = set()
+
+    def info(self, text: str) -> None:
+        if not self.quiet:
+            click.echo(f"{PROG}: {text}", err=True)
+
+    def warn(self, text: str) -> None:
+        if text not in self._seen:
+            self._seen.add(text)
+            click.echo(f"{PROG}: warning: {text}", err=True)
+
+
+def _common(command: Callable) -> Callable:
+    """--quiet and --debug on every command; library warnings shown as one line each."""
+
+    @click.option("--quiet", "-q", is_flag=True, help="No summary or progress on stderr (warnings still shown).")
+    @click.option("--debug", is_flag=True, help="Show the full traceback of an error.")
+    @functools.wraps(command)
+    def wrapper(*args, quiet: bool, debug: bool, **kwargs):
+        reporter = _Reporter(quiet)
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            try:
+                return command(*args, reporter=reporter, **kwargs)
+            finally:
+                for item in caught:
+                    reporter.warn(str(item.message))
+
+    return wrapper
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
+@click.version_option(__version__, prog_name=PROG)
+def cli() -> None:
+    """Conservation of globin-family alignments, tied to the globin helix frame.
+
+    Start with `globcons demo`, or `globcons columns ALIGNMENT` on your own alignment.
+    """
+
+
+_alignment_argument = click.argument("alignment", metavar="ALIGNMENT", type=click.Path(dir_okay=True, allow_dash=True))
+
+
+def _reader_options(command: Callable) -> Callable:
+    command = click.option("--keep-inserts", is_flag=True,
+                           help="A2M: keep insert states (lower case, '.') as columns instead of dropping them.")(command)
+    command = click.option("--format", "fmt", type=click.Choice(FORMATS), default=None,
+                           help="Input format (default: sniffed from the content; .a2m selects A2M).")(command)
+    return command
+
+
+def _scoring_options(command: Callable) -> Callable:
+    options = [
+        click.option("--weights", type=click.Choice(SCHEMES), default="henikoff", show_default=True,
+                     help="Sequence weighting."),
+        click.option("--identity", type=float, default=0.8, show_default=True,
+                     help="Identity threshold of --weights cluster."),
+        click.option("--matrix", default="BLOSUM62", show_default=True,
+                     help="Substitution matrix (any Biopython ships) judging conservative groups."),
+        click.option("--residue-groups", type=click.Choice(sorted(RESIDUE_GROUPS)), default=None,
+                     help="Judge conservative groups by a fixed reduced alphabet instead of the matrix."),
+        click.option("--max-gaps", type=float, default=0.5, show_default=True,
+                     help="A column with a larger weighted gap fraction is gap-rich."),
+        click.option("--invariant-min", type=float, default=1.0, show_default=True,
+                     help="Share of the residue weight one residue needs for invariant."),
+        click.option("--group-min", type=float, default=1.0, show_default=True,
+                     help="Share of the residue weight that must form one substitution group for conservative."),
+        click.option("--min-neff", type=float, default=5.0, show_default=True,
+                     help="Columns with fewer effective sequences are flagged low_data."),
+        click.option("--window", type=int, default=0, show_default=True,
+                     help="Smooth the JSD score over this many neighbours on each side (0: off)."),
+    ]
+    for option in reversed(options):
+        command = option(command)
+    return command
+
+
+def _score_options(kw: dict) -> ScoreOptions:
+    rules = ClassRules(max_gaps=kw["max_gaps"], invariant_min=kw["invariant_min"], group_min=kw["group_min"],
+                       matrix=kw["matrix"], residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
+    return ScoreOptions(weights=kw["weights"], identity=kw["identity"], window=kw["window"], rules=rules,
+                        reference=kw.get("reference"))
+
+
+def _warn_low_data(table, reporter: _Reporter) -> None:
+    low = table.attrs["low_data_columns"]
+    if low:
+        reporter.warn(f"{low} of {table.attrs['columns']} columns have fewer than {table.attrs['rules']['min_neff']:g} "
+                      "effective sequences (flagged low_data): their classes rest on little evidence")
+
+
+@cli.command()
+@_alignment_argument
+@click.option("-o", "--output", default=None, help="Output file (default: standard output; '-' too).")
+@click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
+              help="Table format (default: from the output's extension, else tsv).")
+@click.option("--reference", default=None, help="Add ref_position and ref_residue: the numbering of this row.")
+@_reader_options
+@_scoring_options
+@_common
+def columns(alignment: str, output: str | None, table_format: str | None, fmt: str | None, keep_inserts: bool,
+            reporter: _Reporter, **kw) -> None:
+    """Score and class every column of ALIGNMENT ('-' reads standard input).
+
+    One row per column: class (invariant, conservative, variable, gap-rich), entropy, JSD, gap
+    fraction, effective sequences, consensus and residue frequencies.
+    """
+    options = _score_options(kw)
+    if output is not None:
+        check_not_input(output, [alignment])
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
+    table = score_columns(aligned, options)
+    written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
+                          caption=f"Column conservation of {os.path.basename(str(alignment))}")
+    reporter.info(summarise(table))
+    _warn_low_data(table, reporter)
+    if written:
+        reporter.info("wrote " + ", ".join(written))
+
+
+@cli.command()
+@click.option("-o", "--output", "out_dir", default="globcons-demo", show_default=True,
+              help="Folder for the demo's outputs (created if missing; other files in it are left alone).")
+@_common
+def demo(out_dir: str, reporter: _Reporter) -> None:
+    """Run the main job on the embedded demo data (a synthetic myoglobin family)."""
+    from rich.console import Console
+    from rich.table import Table
+
+    from .classes import CLASSES
+    from .demo import run_demo
+
+    result = run_demo(out_dir)
+    counts = result.table.attrs["class_counts"]
+    if not reporter.quiet:
+        console = Console(stderr=True)
+        console.print("Demo family (synthetic myoglobins of a fictional survey): columns by class")
+        overview = Table()
+        overview.add_column("class")
+        overview.add_column("columns", justify="right")
+        for name in CLASSES:
+            overview.add_row(name, str(counts[name]))
+        console.print(overview)
+    reporter.info(result.summary)
+    _warn_low_data(result.table, reporter)
+    reporter.info(f"outputs are in {os.path.abspath(out_dir)}: " + ", ".join(os.path.basename(f) for f in result.files))
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point of the ``globcons`` command; returns the exit status."""
+    args = list(sys.argv[1:] if argv is None else argv)
+    debug = "--debug" in args
+    try:
+        cli.main(args=args, prog_name=PROG, standalone_mode=False)
+        return 0
+    except GlobconsError as exc:
+        if debug:
+            traceback.print_exc()
+        click.echo(f"{PROG}: error: {exc}", err=True)
+        return 2
+    except click.exceptions.Exit as exc:
+        return exc.exit_code
+    except click.ClickException as exc:
+        exc.show()
+        return exc.exit_code
+    except click.exceptions.Abort:
+        click.echo(f"{PROG}: interrupted", err=True)
+        return 130
+    except KeyboardInterrupt:
+        click.echo(f"{PROG}: interrupted", err=True)
+        return 130
+    except BrokenPipeError:
+        # The reader of our output went away (e.g. `| head`): stop quietly.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 141
+    except MemoryError:
+        click.echo(f"{PROG}: error: not enough memory for this input on this machine", err=True)
+        return 2
+    except Exception as exc:  # a bug: say so plainly
+        if debug:
+            traceback.print_exc()
+        click.echo(f"{PROG}: internal error: {type(exc).__name__}: {exc} (please report it; --debug shows the "
+                   "traceback)", err=True)
+        return 1
+
+
+def entry() -> None:  # pragma: no cover - console script shim
+    sys.exit(main())
+
+
+if __name__ == "__main__":  # pragma: no cover
+    entry()
