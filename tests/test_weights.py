@@ -29,11 +29,20 @@ def test_henikoff_identical_rows_weigh_one_in_all():
     assert weights.n_eff == pytest.approx(1.0)
 
 
-def test_henikoff_gaps_contribute_nothing():
+def test_henikoff_gaps_contribute_nothing_and_rows_average_over_their_residues():
     # col 1: A A -> r=1, s=2 -> 1/2 each; col 2: C - -> r=1, s=1 -> r1 gets 1, r2 nothing.
-    # raw: r1 = 3/2, r2 = 1/2; proportions 3/4, 1/4; two distinct rows -> scaled to sum 2.
+    # per residue position: r1 = (1/2 + 1) / 2 = 3/4, r2 = (1/2) / 1 = 1/2; proportions 0.6, 0.4;
+    # two distinct rows -> scaled to sum 2: 1.2, 0.8.
     alignment = alignment_of("AC", "A-")
-    np.testing.assert_allclose(henikoff_weights(alignment.codes), [1.5, 0.5])
+    np.testing.assert_allclose(henikoff_weights(alignment.codes), [1.2, 0.8])
+
+
+def test_henikoff_rows_without_residues_weigh_as_an_average_row():
+    # r1, r2 as in the paper's formula: col 1 A C -> 1/2 each; col 2 D D -> 1/2 each: raw 1/2 and 1/2;
+    # the all-gap row takes their mean, 1/2. Three distinct rows -> 1 each; its gaps count fully.
+    alignment = alignment_of("AD", "CD", "--")
+    np.testing.assert_allclose(henikoff_weights(alignment.codes), [1.0, 1.0, 1.0])
+    np.testing.assert_allclose(henikoff_weights(alignment_of("--", "--").codes), [0.5, 0.5])
 
 
 def test_henikoff_is_independent_of_the_block_size():

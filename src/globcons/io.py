@@ -190,7 +190,8 @@ def _unique_ids(ids: list[str], name: str) -> list[str]:
 
 
 def _check_protein(codes: np.ndarray, name: str) -> None:
-    counts = np.bincount(codes.ravel(), minlength=GAP + 1)
+    # The first few million codes decide it: a nucleotide file is nucleotides throughout.
+    counts = np.bincount(codes.reshape(-1)[:4_000_000], minlength=256)
     letters = int(counts[: UNKNOWN + 1].sum())
     if letters >= 20 and counts[_NUCLEOTIDE_CODES].sum() >= 0.95 * letters:
         raise InputError(
@@ -236,13 +237,28 @@ def _bad_character(data: bytes, newlines: np.ndarray, offset: int, name: str, wh
 
 
 class _FastaBytes(NamedTuple):
-    """Sequence bytes of a FASTA file, split off from the headers with array operations."""
+    """A FASTA file split into headers and sequence bytes with whole-buffer array operations."""
 
+    buf: np.ndarray  # the file's bytes, uint8
     headers: list[bytes]
-    header_offsets: np.ndarray  # byte offset of each '>'
-    seq_offsets: np.ndarray  # byte offset of every sequence byte (not newline or CR)
-    record_of: np.ndarray  # record index of every sequence byte
+    header_offsets: np.ndarray  # byte offset of each record's '>'
+    sequence_byte: np.ndarray  # bool per byte: part of a sequence (not header, newline or CR)
     newlines: np.ndarray  # byte offsets of '\n'
+    lengths: np.ndarray  # sequence bytes per record, before any are removed
+
+    def record_lengths(self, removed: np.ndarray | None = None) -> np.ndarray:
+        """Sequence bytes per record, less the bytes flagged in ``removed`` (a bool per byte, sparse)."""
+        if removed is None or not removed.any():
+            return self.lengths
+        record = np.searchsorted(self.header_offsets, np.flatnonzero(removed), side="right") - 1
+        return self.lengths - np.bincount(record, minlength=self.lengths.size)
+
+    def line_of(self, offset: int) -> int:
+        return _line_number(self.newlines, offset)
+
+    def offset_of(self, mask: np.ndarray, index: int) -> int:
+        """Byte offset of the ``index``-th True byte of ``mask`` (error paths only)."""
+        return int(np.flatnonzero(mask)[index])
 
 
 def _split_fasta(data: bytes, name: str) -> _FastaBytes:
@@ -254,182 +270,192 @@ def _split_fasta(data: bytes, name: str) -> _FastaBytes:
     valid = line_starts < size
     line_starts, line_ends = line_starts[valid], line_ends[valid]
     is_header = buf[line_starts] == ord(">")
-    header_starts = line_starts[is_header]
-    header_ends = line_ends[is_header]
+    header_starts, header_ends = line_starts[is_header], line_ends[is_header]
     if header_starts.size == 0:
         raise InputError("no FASTA header line ('>') found", source=name, line=1)
-    # +1 from a header's '>' to its newline: bytes inside headers.
+    # +1 at a header's '>', -1 at its newline: the running sum is 1 inside headers.
     marks = np.zeros(size + 1, dtype=np.int8)
-    np.add.at(marks, header_starts, 1)
-    np.add.at(marks, header_ends, -1)
-    in_header = np.cumsum(marks[:size], dtype=np.int8).astype(bool)
-    sequence_byte = ~in_header & (buf != 10) & (buf != 13)
-    seq_offsets = np.flatnonzero(sequence_byte)
-    record_of = np.searchsorted(header_starts, seq_offsets, side="right") - 1
-    if record_of.size and record_of[0] < 0:
-        stray = seq_offsets[record_of < 0]
-        blank = (buf[stray] == 32) | (buf[stray] == 9)
-        if not blank.all():
-            first = int(stray[~blank][0])
+    marks[header_starts] = 1
+    marks[header_ends] = -1
+    in_header = np.cumsum(marks[:size], dtype=np.int8).view(bool)
+    del marks
+    sequence_byte = ~in_header
+    sequence_byte &= buf != 10
+    sequence_byte &= buf != 13
+    first = int(header_starts[0])
+    if first and sequence_byte[:first].any():
+        stray = buf[:first][sequence_byte[:first]]
+        if not np.isin(stray, (9, 32)).all():
+            offset = int(np.flatnonzero(sequence_byte[:first] & ~np.isin(buf[:first], (9, 32)))[0])
             raise InputError("sequence data before the first '>' header", source=name,
-                             line=_line_number(newlines, first))
-        keep = record_of >= 0
-        seq_offsets, record_of = seq_offsets[keep], record_of[keep]
-    # Headers without '>' and without CR, one bulk split.
-    header_mask = in_header.copy()
+                             line=_line_number(newlines, offset))
+        sequence_byte[:first] = False
+    # Header text without '>' and CR, in one bulk split on the newlines kept as separators.
+    header_mask = in_header
     header_mask[header_starts] = False
     header_mask &= buf != 13
-    header_mask[header_ends[header_ends < size]] = True  # keep each header's newline as separator
+    header_mask[header_ends[header_ends < size]] = True
     joined = buf[header_mask].tobytes()
     if header_ends[-1] >= size:
         joined += b"\n"
     headers = joined.split(b"\n")[:-1]
-    return _FastaBytes(headers, header_starts, seq_offsets, record_of, newlines)
+    # Sequence bytes per record = bytes after its header line and before the next '>', less the
+    # newlines and CRs among them: counted on the (short) position arrays, not byte by byte.
+    region_start = np.minimum(header_ends + 1, size)
+    region_end = np.concatenate((header_starts[1:], [size]))
+    returns = np.flatnonzero(buf == 13)
+
+    def inside(positions: np.ndarray) -> np.ndarray:
+        return np.searchsorted(positions, region_end) - np.searchsorted(positions, region_start)
+
+    lengths = (region_end - region_start) - inside(newlines) - inside(returns)
+    return _FastaBytes(buf, headers, header_starts, sequence_byte, newlines, lengths.astype(np.int64))
 
 
-def _parse_headers(headers: list[bytes], header_offsets: np.ndarray, newlines: np.ndarray,
-                   name: str) -> tuple[list[str], list[str]]:
+def _parse_headers(parts: _FastaBytes, name: str) -> tuple[list[str], list[str]]:
     ids, descriptions = [], []
-    for index, raw in enumerate(headers):
+    for index, raw in enumerate(parts.headers):
         text = raw.decode("utf-8", errors="replace").strip()
         if not text:
             raise InputError("header line has no sequence id", source=name,
-                             line=_line_number(newlines, int(header_offsets[index])))
-        parts = text.split(None, 1)
-        ids.append(parts[0])
-        descriptions.append(parts[1] if len(parts) > 1 else "")
+                             line=parts.line_of(int(parts.header_offsets[index])))
+        fields = text.split(None, 1)
+        ids.append(fields[0])
+        descriptions.append(fields[1] if len(fields) > 1 else "")
     return ids, descriptions
 
 
-def _drop_trailing_spaces(codes: np.ndarray, offsets: np.ndarray, record_of: np.ndarray,
-                          newlines: np.ndarray, data: bytes, name: str) -> np.ndarray:
-    """Mask of bytes to keep: blanks may end a line, never sit inside one."""
-    spaces = codes == SPACE
-    if not spaces.any():
-        return np.ones(codes.size, dtype=bool)
-    line_of = np.searchsorted(newlines, offsets, side="right")
-    inner = spaces[:-1] & ~spaces[1:] & (line_of[:-1] == line_of[1:])
+def _drop_trailing_blanks(parts: _FastaBytes, name: str) -> _FastaBytes:
+    """Blanks may end a line, never sit inside one; the allowed ones leave the sequence mask."""
+    buf, mask = parts.buf, parts.sequence_byte
+    blank = mask & ((buf == 32) | (buf == 9))
+    if not blank.any():
+        return parts
+    offsets = np.flatnonzero(mask)
+    is_blank = blank[offsets]
+    line = np.searchsorted(parts.newlines, offsets, side="right")
+    inner = is_blank[:-1] & ~is_blank[1:] & (line[:-1] == line[1:])
     if inner.any():
-        raise _bad_character(data, newlines, int(offsets[:-1][inner][0]), name,
+        raise _bad_character(parts.buf.tobytes(), parts.newlines, int(offsets[:-1][inner][0]), name,
                              "(a blank) inside a sequence line; alignments use '-' for gaps")
-    return ~spaces
+    lengths = parts.record_lengths(blank)
+    mask &= ~blank
+    return parts._replace(lengths=lengths)
 
 
 def _parse_fasta(data: bytes, name: str, a2m: bool, keep_inserts: bool) -> Alignment:
     parts = _split_fasta(data, name)
-    ids, descriptions = _parse_headers(parts.headers, parts.header_offsets, parts.newlines, name)
-    raw = np.frombuffer(data, dtype=np.uint8)[parts.seq_offsets]
-    codes = BYTE_TO_CODE[raw]
-    keep = _drop_trailing_spaces(codes, parts.seq_offsets, parts.record_of, parts.newlines, data, name)
-    invalid = codes == INVALID
-    if invalid.any():
-        first = int(parts.seq_offsets[invalid][0])
-        raise _bad_character(data, parts.newlines, first, name, "is not an amino-acid letter or a gap ('-', '.', '~')")
-    record_of = parts.record_of
-    offsets = parts.seq_offsets
+    ids, descriptions = _parse_headers(parts, name)
+    parts = _drop_trailing_blanks(parts, name)
+    buf, mask = parts.buf, parts.sequence_byte
     notes: dict[str, object] = {}
     if a2m:
-        inserts = ((raw >= ord("a")) & (raw <= ord("z"))) | (raw == ord("."))
+        lower = (buf >= ord("a")) & (buf <= ord("z"))
+        insert = mask & (lower | (buf == ord(".")))
         if keep_inserts:
-            return _a2m_keep_inserts(raw[keep], codes[keep], record_of[keep], offsets[keep], ids, descriptions,
-                                     parts, name)
-        dropped = inserts & keep & (raw != ord("."))
-        notes["inserts_dropped"] = int(dropped.sum())
-        keep &= ~inserts
-    codes, record_of, offsets = codes[keep], record_of[keep], offsets[keep]
-    codes, record_of, offsets = _drop_final_stops(codes, record_of, offsets, len(ids))
-    matrix = _to_matrix(codes, record_of, offsets, ids, parts, name)
+            raw = buf[mask]
+            codes = _encode_checked(raw, parts, mask, name)
+            codes[raw == ord(".")] = GAP
+            lengths = parts.record_lengths()
+            matrix = _a2m_padded(codes, insert[mask], lengths, ids, parts, name)
+            return _finish(ids, descriptions, matrix, name, "a2m", notes={"inserts_kept": True})
+        notes["inserts_dropped"] = int((insert & lower).sum())
+        _encode_checked(buf[insert], parts, insert, name)  # report bad letters even where they would be dropped
+        lengths = parts.record_lengths(insert)
+        mask &= ~insert
+    else:
+        lengths = parts.record_lengths()
+    codes = _encode_checked(buf[mask], parts, mask, name)
+    codes, lengths = _drop_final_stops(codes, lengths)
+    matrix = _to_matrix(codes, lengths, ids, parts, name)
     return _finish(ids, descriptions, matrix, name, "a2m" if a2m else "fasta", notes=notes)
 
 
-def _drop_final_stops(codes: np.ndarray, record_of: np.ndarray, offsets: np.ndarray,
-                      n_records: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    if codes.size == 0:
-        return codes, record_of, offsets
-    last = np.flatnonzero(np.r_[record_of[1:] != record_of[:-1], True])
-    final_stop = last[codes[last] == STOP]
-    if final_stop.size == 0:
-        return codes, record_of, offsets
-    keep = np.ones(codes.size, dtype=bool)
-    keep[final_stop] = False
-    return codes[keep], record_of[keep], offsets[keep]
+def _encode_checked(raw: np.ndarray, parts: _FastaBytes, mask: np.ndarray, name: str) -> np.ndarray:
+    codes = BYTE_TO_CODE[raw]
+    invalid = codes >= SPACE  # INVALID or a blank that survived (inside a line)
+    if invalid.any():
+        offset = parts.offset_of(mask, int(np.argmax(invalid)))
+        raise _bad_character(parts.buf.tobytes(), parts.newlines, offset, name,
+                             "is not an amino-acid letter or a gap ('-', '.', '~')")
+    return codes
 
 
-def _to_matrix(codes: np.ndarray, record_of: np.ndarray, offsets: np.ndarray, ids: list[str],
-               parts: _FastaBytes, name: str) -> np.ndarray:
+def _drop_final_stops(codes: np.ndarray, lengths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Drop one '*' ending a record (a translated stop codon)."""
+    ends = np.cumsum(lengths) - 1
+    has = lengths > 0
+    final_stop = np.zeros(lengths.size, dtype=bool)
+    final_stop[has] = codes[ends[has]] == STOP
+    if not final_stop.any():
+        return codes, lengths
+    return np.delete(codes, ends[final_stop]), lengths - final_stop
+
+
+def _to_matrix(codes: np.ndarray, lengths: np.ndarray, ids: list[str], parts: _FastaBytes,
+               name: str) -> np.ndarray:
     n_records = len(ids)
-    lengths = np.bincount(record_of, minlength=n_records)
-    if lengths.size and (lengths == 0).all():
+    if (lengths == 0).all():
         raise InputError("no sequence data under the headers", source=name)
-    width = int(np.bincount(lengths).argmax()) if lengths.size else 0
-    if width == 0:
-        width = int(lengths.max())
+    width = int(np.bincount(lengths).argmax()) or int(lengths.max())
     odd = np.flatnonzero(lengths != width)
     if odd.size:
         row = int(odd[0])
-        line = _line_number(parts.newlines, int(parts.header_offsets[row]))
-        got = int(lengths[row])
         others = "the others" if odd.size == 1 else f"most others ({n_records - odd.size} of {n_records})"
         raise InputError(
-            f"row {ids[row]!r} has {got} columns, {others} {width}: rows of an alignment must be equal in "
-            "length (for unaligned sequences, use `globcons align`)",
-            source=name, line=line,
+            f"row {ids[row]!r} has {int(lengths[row])} columns, {others} {width}: rows of an alignment must be "
+            "equal in length (for unaligned sequences, use `globcons align`)",
+            source=name, line=parts.line_of(int(parts.header_offsets[row])),
         )
-    matrix = codes.reshape(n_records, width)
-    return matrix if matrix.flags.owndata else matrix.copy()
+    return codes.reshape(n_records, width)
 
 
-def _a2m_keep_inserts(raw: np.ndarray, codes: np.ndarray, record_of: np.ndarray, offsets: np.ndarray,
-                      ids: list[str], descriptions: list[str], parts: _FastaBytes, name: str) -> Alignment:
-    """A2M with its insert states kept as columns; insert runs are padded to the longest run.
+def _a2m_padded(codes: np.ndarray, is_insert: np.ndarray, lengths: np.ndarray, ids: list[str],
+                parts: _FastaBytes, name: str) -> np.ndarray:
+    """A2M rows with their insert states as columns; unpadded insert runs are padded to the longest.
 
-    Not a hot path (``--keep-inserts`` is an explicit choice), so rows are handled one at a time.
+    Not a hot path (``--keep-inserts`` is an explicit choice), so rows are placed one at a time.
     """
-    codes = codes.copy()
-    codes[raw == ord(".")] = GAP
-    is_insert = ((raw >= ord("a")) & (raw <= ord("z"))) | (raw == ord("."))
-    n_records = len(ids)
-    trimmed = _drop_final_stops(codes, record_of, offsets, n_records)
-    lengths = np.bincount(trimmed[1], minlength=n_records)
-    if (lengths == lengths[0]).all():  # inserts already padded with '.': the rows line up as they are
-        matrix = _to_matrix(*trimmed, ids, parts, name)
-        return _finish(ids, descriptions, matrix, name, "a2m", notes={"inserts_kept": True})
-    lengths = np.bincount(record_of, minlength=n_records)
-    bounds = np.concatenate(([0], np.cumsum(lengths)))
+    codes, trimmed = _drop_final_stops(codes, lengths)
+    if trimmed.size and (trimmed == trimmed[0]).all():  # inserts padded with '.' already: rows line up
+        return _to_matrix(codes, trimmed, ids, parts, name)
+    if trimmed.size != lengths.size or (trimmed != lengths).any():
+        keep = np.ones(lengths.sum(), dtype=bool)
+        ends = np.cumsum(lengths) - 1
+        keep[ends[trimmed != lengths]] = False
+        is_insert = is_insert[keep]
+    bounds = np.concatenate(([0], np.cumsum(trimmed)))
     rows = []
-    for index in range(n_records):
+    for index in range(len(ids)):
         row_codes = codes[bounds[index]:bounds[index + 1]]
         row_insert = is_insert[bounds[index]:bounds[index + 1]]
-        if row_codes.size and row_codes[-1] == STOP:
-            row_codes, row_insert = row_codes[:-1], row_insert[:-1]
-        match_index = np.cumsum(~row_insert)  # slot of each insert: after this many match states
-        rows.append((row_codes, row_insert, match_index))
-    n_match = {int((~r[1]).sum()) for r in rows}
-    if len(n_match) != 1:
-        counts = [int((~r[1]).sum()) for r in rows]
-        row = next(i for i, c in enumerate(counts) if c != counts[0])
-        line = _line_number(parts.newlines, int(parts.header_offsets[row]))
-        raise InputError(f"row {ids[row]!r} has {counts[row]} match states, the first row {counts[0]}: "
-                         "A2M rows must agree in match (upper-case and '-') columns", source=name, line=line)
-    slots = n_match.pop() + 1
+        real = ~row_insert | (row_codes != GAP)  # '.' padding carries nothing
+        rows.append((row_codes[real], row_insert[real]))
+    matches = [int((~insert).sum()) for _, insert in rows]
+    odd = [i for i, m in enumerate(matches) if m != matches[0]]
+    if odd:
+        row = odd[0]
+        raise InputError(f"row {ids[row]!r} has {matches[row]} match states, the first row {matches[0]}: A2M rows "
+                         "must agree in match (upper-case and '-') columns",
+                         source=name, line=parts.line_of(int(parts.header_offsets[row])))
+    slots = matches[0] + 1  # slot k holds the inserts after k match states
     widths = np.zeros(slots, dtype=np.int64)
-    for row_codes, row_insert, match_index in rows:
-        widths = np.maximum(widths, np.bincount(match_index[row_insert & (row_codes != GAP)], minlength=slots))
-    width = int(widths.sum()) + slots - 1
-    matrix = np.full((n_records, width), GAP, dtype=np.uint8)
-    slot_start = np.concatenate(([0], np.cumsum(widths[:-1] + 1)))
-    for index, (row_codes, row_insert, match_index) in enumerate(rows):
-        real = ~row_insert | (row_codes != GAP)
-        row_codes, row_insert, match_index = row_codes[real], row_insert[real], match_index[real]
-        within = np.zeros(row_codes.size, dtype=np.int64)
+    placed = []
+    for row_codes, row_insert in rows:
+        slot = np.cumsum(~row_insert)
+        widths = np.maximum(widths, np.bincount(slot[row_insert], minlength=slots))
+        placed.append(slot)
+    slot_start = np.concatenate(([0], np.cumsum(widths[:-1] + 1)))  # column of slot k's first insert
+    matrix = np.full((len(ids), int(widths.sum()) + slots - 1), GAP, dtype=np.uint8)
+    for index, ((row_codes, row_insert), slot) in enumerate(zip(rows, placed)):
+        column = slot_start[slot] - 1  # match state k sits just before slot k's inserts
         if row_insert.any():
-            ins = np.flatnonzero(row_insert)
-            run_start = np.r_[True, (match_index[ins][1:] != match_index[ins][:-1])]
-            first_of_run = np.maximum.accumulate(np.where(run_start, np.arange(ins.size), 0))
-            within[ins] = np.arange(ins.size) - first_of_run
-        column = np.where(row_insert, slot_start[match_index] + within, slot_start[match_index] - 1)
+            runs = np.flatnonzero(row_insert)
+            first = np.r_[True, slot[runs][1:] != slot[runs][:-1]]
+            run_start = np.maximum.accumulate(np.where(first, np.arange(runs.size), 0))
+            column[runs] = slot_start[slot[runs]] + np.arange(runs.size) - run_start
         matrix[index, column] = row_codes
-    return _finish(ids, descriptions, matrix, name, "a2m", notes={"inserts_kept": True})
+    return matrix
 
 
 # --------------------------------------------------------------------------------------------------
@@ -537,11 +563,17 @@ def _parse_with_biopython(data: bytes, name: str, fmt: str) -> Alignment:
             failure = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
     else:
         raise InputError(f"cannot be read as {fmt.upper()}: {failure}", source=name)
+    if not records:
+        raise InputError(f"{fmt.upper()} file holds no sequences", source=name)
     ids = [record.id for record in records]
     sequences = [str(record.seq) for record in records]
-    widths = {len(s) for s in sequences}
-    if len(widths) != 1:
-        raise InputError("rows of unequal length (for unaligned sequences, use `globcons align`)", source=name)
+    lengths = [len(s) for s in sequences]
+    width = max(set(lengths), key=lengths.count)
+    odd = [i for i, length in enumerate(lengths) if length != width]
+    if odd:
+        raise InputError(f"row {ids[odd[0]]!r} has {len(sequences[odd[0]])} columns, the others {width}: rows of an "
+                         "alignment must be equal in length (for unaligned sequences, use `globcons align`)",
+                         source=name)
     joined = "".join(sequences).encode("ascii", errors="replace")
     raw = np.frombuffer(joined, dtype=np.uint8)
     # NEXUS and PHYLIP may write '?' for missing data: unknown.
@@ -550,12 +582,10 @@ def _parse_with_biopython(data: bytes, name: str, fmt: str) -> Alignment:
     bad = (codes == INVALID) | (codes == SPACE)
     if bad.any():
         first = int(np.flatnonzero(bad)[0])
-        width = widths.pop()
         raise InputError(f"{chr(raw[first])!r} in row {ids[first // width]!r} is not an amino-acid letter or a gap",
                          source=name)
-    width = len(sequences[0])
     matrix = codes.reshape(len(ids), width)
-    if (matrix[:, -1] == STOP).all():
+    if width and (matrix[:, -1] == STOP).all():
         matrix = matrix[:, :-1].copy()
     descriptions = [record.description if record.description != record.id else "" for record in records]
     return _finish(ids, descriptions, matrix, name, fmt)
@@ -582,6 +612,8 @@ def parse_alignment(data: bytes, name: str = "<memory>", format: str | None = No
     """
     if format is not None and format not in FORMATS:
         raise OptionError(f"unknown format {format!r}; choose one of {', '.join(FORMATS)}")
+    if data.startswith(_BOM):
+        data = data[len(_BOM):]
     if not data.strip():
         raise InputError("file is empty", source=name)
     problem = _text_problem(data)

@@ -98,9 +98,12 @@ def atomic_output(path: str | os.PathLike | None, inputs: Iterable = (), binary:
             os.fsync(stream.fileno())
         os.chmod(temporary, _mode_for(target))
         os.replace(temporary, target)
-    except BaseException:
+    except BaseException as exc:
         with contextlib.suppress(OSError):
             os.unlink(temporary)
+        if isinstance(exc, OSError) and not isinstance(exc, (BrokenPipeError, FileNotFoundError)):
+            raise OutputError(f"cannot be written ({exc.strerror or exc}); nothing was left behind",
+                              source=str(target)) from exc
         raise
 
 

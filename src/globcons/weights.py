@@ -4,9 +4,10 @@ Three schemes (``--weights``):
 
 ``henikoff`` (default)
     Position-based weights of Henikoff & Henikoff 1994 (J Mol Biol 243:574): in a column with ``r``
-    distinct residue types, a row whose residue occurs ``s`` times there receives ``1 / (r * s)``; a
-    row's weight is the mean over the columns that hold any residue. Gaps and unknowns contribute
-    nothing (a fragment weighs less). The weights keep these proportions and are scaled to sum to the
+    distinct residue types, a row whose residue occurs ``s`` times there receives ``1 / (r * s)``. The
+    paper worked on ungapped blocks; here gaps and unknowns contribute nothing and a row's weight is the
+    mean over its own residue positions, so a fragment is judged by what it has, not penalised for what
+    it lacks (a row with no residue weighs as an average row). The weights are scaled to sum to the
     number of distinct rows, so exact duplicates add no evidence (a family of identical sequences has an
     effective number of 1). For the identity-threshold effective number, use ``cluster``.
 ``cluster``
@@ -85,9 +86,6 @@ def henikoff_weights(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> np.ndar
     counts = column_counts(codes, chunk_rows=chunk_rows)
     residue_counts = counts[:, :N_RESIDUES]
     distinct = (residue_counts > 0).sum(axis=1)  # r per column
-    occupied = distinct > 0
-    if not occupied.any():
-        return np.zeros(n_rows)
     table = np.zeros((n_columns, N_CODES))
     with np.errstate(divide="ignore", invalid="ignore"):
         share = 1.0 / (distinct[:, None] * residue_counts)
@@ -97,7 +95,13 @@ def henikoff_weights(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> np.ndar
     raw = np.empty(n_rows)
     for start in range(0, n_rows, chunk_rows):
         block = codes[start:start + chunk_rows]
-        raw[start:start + block.shape[0]] = flat_table[block + offsets].sum(axis=1)
+        residues = (block < N_RESIDUES).sum(axis=1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            raw[start:start + block.shape[0]] = flat_table[block + offsets].sum(axis=1) / residues
+    # A row without residues carries no evidence either way: it weighs as an average row, so its gaps
+    # still count in the gap fractions.
+    empty = ~np.isfinite(raw)
+    raw[empty] = raw[~empty].mean() if (~empty).any() else 1.0
     return raw / raw.sum() * distinct_rows(codes)
 
 
