@@ -143,8 +143,9 @@ def test_columns_markdown(capsys, aln):
     body = [line for line in lines[2:] if line.startswith("|")]
     assert len(body) == 7
     cells = [[c.strip() for c in line.strip("|").split("|")] for line in body]
-    assert [c[1] for c in cells] == EXPECTED_CLASS
-    assert [c[3] for c in cells] == EXPECTED_CONSENSUS
+    position = {name: k for k, name in enumerate(COLUMN_ORDER)}
+    assert [c[position["class"]] for c in cells] == EXPECTED_CLASS
+    assert [c[position["consensus"]] for c in cells] == EXPECTED_CONSENSUS
 
 
 def test_columns_tex_booktabs(capsys, aln):
@@ -156,7 +157,7 @@ def test_columns_tex_booktabs(capsys, aln):
     assert r"low\_data" in out and r"entropy\_bits" in out  # '_' escaped for LaTeX
     body = [line for line in out.splitlines() if line.endswith(r"\\") and line.split(" & ")[0].strip().isdigit()]
     assert len(body) == 7
-    assert [line.split(" & ")[1] for line in body] == EXPECTED_CLASS
+    assert [line.split(" & ")[COLUMN_ORDER.index("class")] for line in body] == EXPECTED_CLASS
 
 
 def test_dash_output_is_stdout(capsys, aln):

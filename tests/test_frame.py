@@ -265,6 +265,18 @@ def test_user_site_table_loads(tmp_path):
     assert frame.sites_at("G1", chain=BETA, site_list=found) == (found[2],)
 
 
+def test_user_site_table_by_alignment_column(tmp_path):
+    # Families without frame labels name their sites by alignment column (1-based).
+    path = tmp_path / "by_column.tsv"
+    path.write_text("column\trole\tkind\n12\tcatalytic Cys\tactive-site\nF8\tligand\theme-ligand\n", encoding="utf-8")
+    found = frame.sites(path=path)
+    assert (found[0].column, found[0].label, found[0].kind) == (12, "", "active-site")
+    assert (found[1].column, found[1].label) == (None, "F8")
+    path.write_text("column\trole\n0\tnothing\n", encoding="utf-8")
+    with pytest.raises(InputError, match="alignment column"):
+        frame.sites(path=path)
+
+
 def test_user_site_table_missing_role(tmp_path):
     path = tmp_path / "no_role.tsv"
     path.write_text("label\tkind\nF8\theme\n", encoding="utf-8")

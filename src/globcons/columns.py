@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -13,6 +14,8 @@ from .alphabet import N_RESIDUES, UNKNOWN
 from .classes import CLASSES, ClassRules, classify
 from .counts import column_counts
 from .errors import OptionError
+from .frame import sites as site_table
+from .mapping import ColumnMapping, column_sites, map_columns
 from .scores import (PROPERTY_CLASSES, consensus, entropy_bits, gap_fraction, jsd_scores, property_entropy,
                      residue_frequencies, residue_strings, smooth_window)
 from .weights import Weights, compute_weights
@@ -20,7 +23,7 @@ from .weights import Weights, compute_weights
 __all__ = ["ScoreOptions", "score_columns", "summarise", "COLUMN_ORDER"]
 
 #: Order of the table's columns (``ref_position`` and ``ref_residue`` follow ``column`` with a reference).
-COLUMN_ORDER = ("column", "class", "low_data", "consensus", "residues", "entropy_bits", "entropy_norm",
+COLUMN_ORDER = ("column", "frame_label", "sites", "class", "low_data", "consensus", "residues", "entropy_bits", "entropy_norm",
                 "property_entropy", "jsd", "gap_fraction", "unknown_fraction", "n_eff")
 
 
@@ -39,7 +42,14 @@ class ScoreOptions:
     rules
         Class thresholds.
     reference
-        Id of a row whose residue numbering is added (``ref_position``, ``ref_residue``).
+        Id of a row whose residue numbering is added (``ref_position``, ``ref_residue``); it is also the
+        anchor that ties the columns to the globin frame.
+    frame
+        Tie the columns to the globin frame (``frame_label``, ``sites``); False leaves both empty.
+    sites_path
+        A user's site table (label or column, role, ...) added to the built-in sites.
+    replace_sites
+        Use only the user's sites.
     """
 
     weights: str = "henikoff"
@@ -47,6 +57,9 @@ class ScoreOptions:
     window: int = 0
     rules: ClassRules = ClassRules()
     reference: str | None = None
+    frame: bool = True
+    sites_path: str | None = None
+    replace_sites: bool = False
 
     def __post_init__(self) -> None:
         if self.window < 0:
@@ -79,6 +92,9 @@ def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **k
     True
     """
     options = _options(options, kwargs)
+    user_sites = site_table(path=options.sites_path) if options.sites_path else None
+    if options.replace_sites and user_sites is None:
+        raise OptionError("replacing the sites needs a site table (--sites FILE)")
     weights = compute_weights(alignment.codes, options.weights, options.identity)
     counts = column_counts(alignment.codes, weights.values)
     frequencies = residue_frequencies(counts)
@@ -87,8 +103,15 @@ def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **k
     classes, low_data = classify(frequencies, gaps, n_eff, options.rules)
     entropy = entropy_bits(counts)
     total = counts.sum(axis=1)
+    if options.frame:
+        source = alignment.source if Path(alignment.source).is_file() else None
+        mapping = map_columns(alignment, anchor=options.reference, source_path=source)
+    else:
+        mapping = ColumnMapping(("",) * alignment.n_columns, "none", note="frame mapping switched off")
     table = pd.DataFrame({
         "column": np.arange(1, alignment.n_columns + 1),
+        "frame_label": list(mapping.labels),
+        "sites": column_sites(mapping.labels, mapping.nearest_reference, user_sites, options.replace_sites),
         "class": classes.astype(str),
         "low_data": low_data,
         "consensus": consensus(counts).astype(str),
@@ -111,6 +134,9 @@ def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **k
         table.loc[positions <= 0, "ref_position"] = pd.NA
         table.insert(2, "ref_residue", np.where(positions > 0, letters, ""))
     table.attrs.update(_metadata(alignment, options, weights, classes, low_data))
+    table.attrs["frame"] = {"source": mapping.source, "anchor": mapping.anchor,
+                            "nearest_reference": mapping.nearest_reference, "note": mapping.note,
+                            "evalue": mapping.placement.evalue if mapping.placement else None}
     return table
 
 
@@ -158,6 +184,9 @@ def summarise(table: pd.DataFrame) -> str:
     parts = ", ".join(f"{counts[name]} {name}" for name in CLASSES)
     line = (f"{meta['sequences']} sequences ({meta['effective_sequences']:.1f} effective, {meta['weights']} "
             f"weights), {meta['columns']} columns: {parts}")
+    frame = meta.get("frame")
+    if frame and frame.get("note"):
+        line += f"; {frame['note']}"
     if meta["low_data_columns"]:
         line += f"; {meta['low_data_columns']} low-data columns (n_eff < {meta['rules']['min_neff']:g})"
     return line

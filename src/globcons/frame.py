@@ -156,6 +156,8 @@ class Site:
         Free text (numbering per chain, caveats).
     certainty
         How sure the entry is, e.g. ``"from memory"`` or ``"uncertain (from memory)"``.
+    column
+        For a user's site given by alignment column (1-based) instead of a label; None otherwise.
     """
 
     label: str
@@ -165,6 +167,7 @@ class Site:
     reference: str = ""
     note: str = ""
     certainty: str = ""
+    column: int | None = None
 
     def applies_to(self, chain_name: str) -> bool:
         """Whether the site is listed for ``chain_name`` (every chain when :attr:`chains` is empty).
@@ -490,14 +493,13 @@ def _read_sites(text: str, source: str) -> tuple[Site, ...]:
         raise InputError("no header row; expected tab-separated columns label, role", source)
     header_line, header_text = rows[0]
     header = [name.strip().lower() for name in header_text.split("\t")]
-    # "column" is accepted as the heading of the label column.
-    header = ["label" if name == "column" else name for name in header]
     if len(set(header)) != len(header):
         raise InputError(f"repeated column name in header {header_text!r}", source, header_line)
-    for required in ("label", "role"):
-        if required not in header:
-            raise InputError(f"missing column {required!r}; header has {', '.join(header)}",
-                             source, header_line)
+    if "label" not in header and "column" not in header:
+        raise InputError(f"missing column 'label' (or 'column'); header has {', '.join(header)}",
+                         source, header_line)
+    if "role" not in header:
+        raise InputError(f"missing column 'role'; header has {', '.join(header)}", source, header_line)
     found = []
     for number, raw in rows[1:]:
         cells = raw.split("\t")
@@ -505,13 +507,26 @@ def _read_sites(text: str, source: str) -> tuple[Site, ...]:
             raise InputError(f"{len(cells)} fields but the header has {len(header)}", source, number)
         row = dict(zip(header, (cell.strip() for cell in cells)))
         label = row.get("label", "")
-        if not is_label(label):
+        column_text = row.get("column", "")
+        column = None
+        if column_text and not label and is_label(column_text):
+            label, column_text = column_text, ""  # a frame label under a "column" heading
+        if column_text:
+            if not column_text.isdigit() or int(column_text) < 1:
+                raise InputError(f"column {column_text!r} is not an alignment column number (1, 2, ...)",
+                                 source, number)
+            column = int(column_text)
+        elif not is_label(label):
+            raise InputError(f"{label!r} is not a frame label (segment then place, e.g. F8, FG3, NA1)",
+                             source, number)
+        if label and not is_label(label):
             raise InputError(f"{label!r} is not a frame label (segment then place, e.g. F8, FG3, NA1)",
                              source, number)
         if not row.get("role"):
-            raise InputError(f"site {label} has an empty role", source, number)
+            raise InputError(f"site {label or column} has an empty role", source, number)
         found.append(Site(
             label=label,
+            column=column,
             chains=_parse_chains(row.get("chains", ""), source, number),
             role=row["role"],
             kind=row.get("kind", ""),
@@ -552,8 +567,8 @@ def sites(chain: str | ReferenceChain | None = None,
         If given, only the sites listed for that chain whose label the chain has (a site listed for
         all chains at ``CD4`` is left out for alpha, which names that stretch ``CE``).
     path
-        A tab-separated table to use instead of the built-in list. Columns: ``label`` (or
-        ``column``) and ``role`` required; ``kind``, ``chains`` (``all`` or comma-separated chain
+        A tab-separated table to use instead of the built-in list. Columns: ``label`` or ``column``
+        (a 1-based alignment column, for families without frame labels) and ``role`` required; ``kind``, ``chains`` (``all`` or comma-separated chain
         names; empty means all), ``reference``, ``note``, ``certainty`` optional; other columns are
         ignored. Blank lines and lines starting with ``#`` are skipped.
 

@@ -25,6 +25,9 @@ from .alphabet import BYTE_TO_CODE, GAP, INVALID, SPACE, STANDARD, STOP, UNKNOWN
 from .errors import InputError, InputWarning, OptionError
 
 __all__ = [
+    "ALIGNMENT_OUTPUTS",
+    "alignment_format_for",
+    "format_alignment",
     "FORMATS",
     "read_alignment",
     "read_input_bytes",
@@ -716,3 +719,59 @@ def _sequence_record(identifier: str, description: str, pieces: list[str], line:
         sequence = sequence[:-1]
     return SequenceRecord(identifier, description, sequence, line)
 
+
+
+# --------------------------------------------------------------------------------------------------
+# writing
+
+
+ALIGNMENT_OUTPUTS = ("fasta", "stockholm", "a2m")
+
+
+def alignment_format_for(path: str | os.PathLike | None, requested: str | None = None) -> str:
+    """Output format of an alignment: as requested, else by extension (.sto/.stk Stockholm, .a2m), else FASTA."""
+    if requested:
+        if requested not in ALIGNMENT_OUTPUTS:
+            raise OptionError(f"unknown alignment output format {requested!r}; choose one of "
+                              f"{', '.join(ALIGNMENT_OUTPUTS)}")
+        return requested
+    name = str(path or "").lower().removesuffix(".gz")
+    if name.endswith((".sto", ".stk", ".stockholm")):
+        return "stockholm"
+    if name.endswith(".a2m"):
+        return "a2m"
+    return "fasta"
+
+
+def format_alignment(ids: list[str] | tuple[str, ...], rows: list[str], fmt: str,
+                     column_annotations: dict[str, str] | None = None,
+                     descriptions: list[str] | tuple[str, ...] | None = None, width: int = 60) -> str:
+    """Text of an alignment in FASTA, A2M or Stockholm (``#=GC`` lines only in Stockholm).
+
+    ``rows`` are the aligned strings (lower case and '.' mark insert states, as in A2M).
+    """
+    descriptions = list(descriptions or [""] * len(ids))
+    if fmt in ("fasta", "a2m"):
+        out = []
+        for identifier, description, row in zip(ids, descriptions, rows):
+            if fmt == "fasta":
+                row = row.replace(".", "-").upper()
+            header = f">{identifier} {description}".rstrip()
+            out.append(header)
+            out.extend(row[i:i + width] for i in range(0, len(row), width) or [0])
+        return "\n".join(out) + "\n"
+    if fmt == "stockholm":
+        annotations = column_annotations or {}
+        pad = max([len(i) for i in ids] + [len(f"#=GC {k}") for k in annotations] + [1]) + 1
+        out = ["# STOCKHOLM 1.0", "#=GF CC written by globcons"]
+        for identifier, description in zip(ids, descriptions):
+            if description:
+                out.append(f"#=GS {identifier} DE {description}")
+        out.append("")
+        for identifier, row in zip(ids, rows):
+            out.append(f"{identifier.ljust(pad)}{row}")
+        for key, text in annotations.items():
+            out.append(f"{('#=GC ' + key).ljust(pad)}{text}")
+        out.append("//")
+        return "\n".join(out) + "\n"
+    raise OptionError(f"unknown alignment output format {fmt!r}")
