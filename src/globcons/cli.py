@@ -14,14 +14,17 @@ import warnings
 from typing import Callable
 
 import click
+import pandas as pd
 
 from ._version import __version__
 from .alphabet import RESIDUE_GROUPS
 from .classes import ClassRules
 from .columns import ScoreOptions, score_columns, summarise
 from .errors import GlobconsError
-from .io import FORMATS, read_alignment
-from .tables import TABLE_FORMATS, check_not_input, write_table
+from .errors import InputError
+from .io import ALIGNMENT_OUTPUTS, FORMATS, alignment_format_for, format_alignment, read_alignment, read_sequences
+from .place import DEFAULT_SHUFFLES, GLOBIN_EVALUE
+from .tables import TABLE_FORMATS, atomic_output, check_not_input, write_table
 from .weights import SCHEMES
 
 PROG = "globcons"
@@ -113,7 +116,8 @@ def _score_options(kw: dict) -> ScoreOptions:
     rules = ClassRules(max_gaps=kw["max_gaps"], invariant_min=kw["invariant_min"], group_min=kw["group_min"],
                        matrix=kw["matrix"], residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
     return ScoreOptions(weights=kw["weights"], identity=kw["identity"], window=kw["window"], rules=rules,
-                        reference=kw.get("reference"))
+                        reference=kw.get("reference"), frame=not kw.get("no_frame", False),
+                        sites_path=kw.get("sites_path"), replace_sites=kw.get("replace_sites", False))
 
 
 def _warn_low_data(table, reporter: _Reporter) -> None:
@@ -128,7 +132,12 @@ def _warn_low_data(table, reporter: _Reporter) -> None:
 @click.option("-o", "--output", default=None, help="Output file (default: standard output; '-' too).")
 @click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
               help="Table format (default: from the output's extension, else tsv).")
-@click.option("--reference", default=None, help="Add ref_position and ref_residue: the numbering of this row.")
+@click.option("--reference", default=None,
+              help="Add ref_position and ref_residue (the numbering of this row) and tie the frame through it.")
+@click.option("--sites", "sites_path", type=click.Path(dir_okay=False), default=None,
+              help="A site table of your own (tab-separated: label or column, role[, kind, chains, note]).")
+@click.option("--replace-sites", is_flag=True, help="Use only the sites of --sites, not the built-in ones.")
+@click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame (other families).")
 @_reader_options
 @_scoring_options
 @_common
@@ -141,7 +150,7 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
     """
     options = _score_options(kw)
     if output is not None:
-        check_not_input(output, [alignment])
+        check_not_input(output, [alignment, kw.get("sites_path")])
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
     table = score_columns(aligned, options)
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
@@ -150,6 +159,83 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
     _warn_low_data(table, reporter)
     if written:
         reporter.info("wrote " + ", ".join(written))
+
+
+@cli.command()
+@click.argument("sequences", metavar="SEQUENCES", type=click.Path(dir_okay=True, allow_dash=True))
+@click.option("-o", "--output", default=None,
+              help="Alignment output (default: Stockholm to standard output). Format by extension: .sto/.stk "
+                   "Stockholm (labels in #=GC lines), .a2m, else FASTA (labels in OUTPUT.frame.tsv).")
+@click.option("--out-format", type=click.Choice(ALIGNMENT_OUTPUTS), default=None, help="Force the output format.")
+@click.option("--keep-inserts", is_flag=True,
+              help="Keep residues between frame positions as lower-case insert columns (A2M convention).")
+@click.option("--report", "report_path", default=None,
+              help="Per-sequence table: nearest reference, identity, E-value, helix coverage, residues left out.")
+@click.option("--shuffles", type=click.IntRange(0, 1000), default=DEFAULT_SHUFFLES, show_default=True,
+              help="Shuffled copies per sequence for the E-value (0: skip it).")
+@_common
+def align(sequences: str, output: str | None, out_format: str | None, keep_inserts: bool, report_path: str | None,
+          shuffles: int, reporter: _Reporter) -> None:
+    """Place unaligned SEQUENCES (FASTA, gzip, '-' for stdin) on the globin frame.
+
+    Writes an alignment with one column per frame position (A1..H26 and the corners and termini),
+    carrying the frame labels so that `globcons columns` reads them back.
+    """
+    from .labelcodec import encode_labels
+    from .mapping import sidecar_path
+    from .place import align_to_frame
+
+    inputs = [sequences]
+    fmt = out_format or ("stockholm" if output in (None, "-") else alignment_format_for(output))
+    sidecar = sidecar_path(output) if fmt != "stockholm" and output not in (None, "-") else None
+    for path in (output, report_path, sidecar):
+        if path is not None:
+            check_not_input(path, inputs)
+    records = [(r.id, r.sequence) for r in read_sequences(sequences)]
+    empty = [r[0] for r in records if not r[1]]
+    if empty:
+        raise InputError(f"sequence {empty[0]!r} is empty", source=str(sequences))
+    result = align_to_frame(records, keep_inserts=keep_inserts, shuffles=shuffles)
+    text = format_alignment(result.ids, list(result.rows), fmt,
+                            column_annotations=encode_labels(result.labels) if fmt == "stockholm" else None)
+    with atomic_output(output, inputs) as stream:
+        stream.write(text)
+    written = [] if output in (None, "-") else [output]
+    if sidecar is not None:
+        sidecar_table = pd.DataFrame({"column": range(1, len(result.labels) + 1), "frame_label": result.labels})
+        written += write_table(sidecar_table, sidecar, "tsv", inputs=inputs)
+    if report_path is not None:
+        written += write_table(placement_table(result), report_path, metadata={"shuffles": shuffles},
+                               inputs=inputs)
+    non_globins = [p.id for p in result.placed if not p.is_globin] if shuffles else []
+    dropped = sum(result.unplaced)
+    reporter.info(f"placed {len(result.placed)} sequences on {sum(1 for l in result.labels if l)} frame positions; "
+                  + (f"{dropped} residues between frame positions or at unaligned ends "
+                     + ("kept as insert columns" if keep_inserts else "left out") if dropped else "no residue left out"))
+    if non_globins:
+        reporter.warn(f"{len(non_globins)} sequence(s) do not place significantly on the globin frame "
+                      f"(E-value >= {GLOBIN_EVALUE:g}), first: {non_globins[0]!r}")
+    if fmt != "stockholm" and output in (None, "-"):
+        reporter.warn("frame labels are not carried by FASTA on standard output; use -o FILE or Stockholm")
+    if written:
+        reporter.info("wrote " + ", ".join(written))
+
+
+def placement_table(result) -> pd.DataFrame:
+    """One row per placed sequence (the `align --report` table)."""
+    from .frame import HELICES
+
+    rows = []
+    for placed, unplaced in zip(result.placed, result.unplaced):
+        row = {"id": placed.id, "length": len(placed.sequence), "nearest_reference": placed.nearest_reference,
+               "identity": round(placed.identity, 1), "score": round(placed.score, 1), "evalue": placed.evalue,
+               "is_globin": "yes" if placed.is_globin else "no", "unplaced_residues": unplaced}
+        for helix in HELICES:
+            row[f"coverage_{helix}"] = placed.coverage.get(helix, float("nan"))
+        rows.append(row)
+    table = pd.DataFrame(rows)
+    table["evalue"] = table["evalue"].map(lambda v: f"{v:.2e}")
+    return table
 
 
 @cli.command()
