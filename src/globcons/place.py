@@ -36,7 +36,6 @@ import numpy as np
 from .alignment import Alignment
 from .alphabet import BYTE_TO_CODE, GAP, N_RESIDUES, UNKNOWN, decode, encode
 from .dp import align, align_scores
-from .frame import HELICES, segment_of
 from .profile import Profile, frame_profile
 from .refalign import ReferenceAlignment, reference_alignment
 
@@ -184,15 +183,9 @@ def _identities(reference: ReferenceAlignment, codes: np.ndarray, columns: np.nd
 
 
 def _coverage(reference: ReferenceAlignment, chain: int, columns: np.ndarray) -> dict[str, float]:
-    own = [reference.chain_label(chain, c) for c in range(len(reference.columns))]
     covered = np.zeros(len(reference.columns), dtype=bool)
     covered[columns[columns >= 0]] = True
-    result = {}
-    for helix in HELICES:
-        in_helix = np.array([bool(label) and segment_of(label) == helix for label in own])
-        if in_helix.any():
-            result[helix] = float(covered[in_helix].mean())
-    return result
+    return {helix: float(covered[mask].mean()) for helix, mask in reference.helix_masks[chain].items()}
 
 
 def place_many(records: Iterable[tuple[str, str]], profile: Profile | None = None,
@@ -224,13 +217,14 @@ def place_many(records: Iterable[tuple[str, str]], profile: Profile | None = Non
     scores = np.array([p.score for p in placements])
     evalues = _evalues(profile, codes_list, scores, shuffles)
     names = [chain.name for chain in reference.chains]
+    canonical = reference.labels
     result = []
     for (identifier, _), codes, placement, evalue in zip(records, codes_list, placements, evalues):
         columns = _extend_ends(placement.column_of_residue, profile.n_columns)
         identities = _identities(reference, codes, columns)
         nearest = int(np.argmax(identities))
-        labels = tuple(reference.chain_label(nearest, c) or reference.columns[c].label if c >= 0 else ""
-                       for c in columns.tolist())
+        own = reference.own_labels[nearest]
+        labels = tuple(own[c] or canonical[c] if c >= 0 else "" for c in columns.tolist())
         result.append(PlacedSequence(
             id=identifier, sequence=decode(codes), column_of_residue=columns, labels=labels,
             score=float(placement.score), evalue=float(evalue), nearest_reference=names[nearest],

@@ -21,7 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .alphabet import GAP, encode
-from .frame import FRAME_ORDER, ReferenceChain, is_helix, reference_chains, segment_of
+from .frame import FRAME_ORDER, HELICES, ReferenceChain, is_helix, reference_chains, segment_of
 
 __all__ = ["FrameColumn", "ReferenceAlignment", "reference_alignment"]
 
@@ -95,6 +95,26 @@ class ReferenceAlignment:
         """The label chain ``chain`` gives its residue at ``column`` ('' where it has none)."""
         position = int(self.positions[chain, column])
         return self.chains[chain].labels[position - 1] if position else ""
+
+    @functools.cached_property
+    def own_labels(self) -> np.ndarray:
+        """Object array (n_chains, n_columns): each chain's own label at each column ('' where none)."""
+        table = np.full(self.positions.shape, "", dtype=object)
+        for row, chain in enumerate(self.chains):
+            present = self.positions[row] > 0
+            table[row, present] = np.array(chain.labels, dtype=object)[self.positions[row, present] - 1]
+        table.flags.writeable = False
+        return table
+
+    @functools.cached_property
+    def helix_masks(self) -> tuple[dict[str, np.ndarray], ...]:
+        """Per chain: helix letter -> bool mask of the columns holding that chain's residues of the helix."""
+        masks = []
+        for row in range(len(self.chains)):
+            own = self.own_labels[row]
+            segments = np.array([segment_of(label) if label else "" for label in own], dtype=object)
+            masks.append({helix: segments == helix for helix in HELICES if (segments == helix).any()})
+        return tuple(masks)
 
     @functools.cached_property
     def _labels_by_key(self) -> dict[str, int]:
