@@ -394,6 +394,13 @@ def label_of(chain: str | ReferenceChain, position: int, numbering: str = "matur
     OptionError
         If the position is outside the chain (the message names the valid range) or the
         numbering is unknown.
+
+    Examples
+    --------
+    >>> label_of("human_hemoglobin_beta", 6)          # the sickle-cell position
+    'A3'
+    >>> label_of("human_hemoglobin_beta", 93, numbering="database")   # His92 counted with the Met
+    'F8'
     """
     ref = reference_chain(chain)
     _check_numbering(numbering)
@@ -415,6 +422,11 @@ def position_of(chain: str | ReferenceChain, label: str, numbering: str = "matur
     OptionError
         If ``label`` is not in the trade's notation or the chain has no such label; the message
         names the chain and the nearest valid labels (the segment's range, or the chain's segments).
+
+    Examples
+    --------
+    >>> position_of("sperm_whale_myoglobin", "E7"), position_of("human_hemoglobin_alpha", "F8", "hgvs")
+    (64, 88)
     """
     ref = reference_chain(chain)
     _check_numbering(numbering)
@@ -458,6 +470,11 @@ def hgvs_name(chain: str | ReferenceChain, mature_position: int, new_residue: st
     str
         E.g. ``"p.Glu7Val"`` for beta 6 to Val, ``"p.Glu7"`` with no new residue, ``"p.Glu7="``
         when the new residue equals the old.
+
+    Examples
+    --------
+    >>> hgvs_name("human_hemoglobin_beta", 6, "V")
+    'p.Glu7Val'
     """
     ref = reference_chain(chain)
     label_of(ref, mature_position, "mature")  # range check
