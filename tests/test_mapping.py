@@ -114,3 +114,20 @@ def test_user_sites_through_the_command_line(tmp_path, capsys):
     header = lines[0].split("\t")
     values = [dict(zip(header, line.split("\t")))["sites"] for line in lines[1:]]
     assert values[0] == "my-terminus" and set(values[1:]) == {""}
+
+
+def test_a2m_sidecar_fits_both_reading_modes(tmp_path, capsys):
+    # An A2M written with insert columns is read either with them (--keep-inserts) or without (default);
+    # the sidecar carries both numberings, so F8 is found either way.
+    mb = reference_chain("sperm_whale_myoglobin").mature_sequence
+    fasta = tmp_path / "in.fasta"
+    fasta.write_text(f">mb\n{mb}\n>ins\n{mb[:50]}GGG{mb[50:]}\n")
+    out = tmp_path / "placed.a2m"
+    assert main(["align", str(fasta), "-o", str(out), "--keep-inserts", "--quiet"]) == 0
+    for extra, width, f8_column in (([], 154, 94), (["--keep-inserts"], 157, 97)):
+        capsys.readouterr()
+        assert main(["columns", str(out), "--quiet", "--min-neff", "0", *extra]) == 0
+        lines = capsys.readouterr().out.splitlines()[1:]
+        assert len(lines) == width
+        f8 = [line.split("\t")[0] for line in lines if line.split("\t")[1] == "F8"]
+        assert f8 == [str(f8_column)]

@@ -182,7 +182,7 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
     carrying the frame labels so that `globcons columns` reads them back.
     """
     from .labelcodec import encode_labels
-    from .mapping import sidecar_path
+    from .mapping import label_sidecar_table, sidecar_path
     from .place import align_to_frame
 
     inputs = [sequences]
@@ -202,8 +202,8 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
         stream.write(text)
     written = [] if output in (None, "-") else [output]
     if sidecar is not None:
-        sidecar_table = pd.DataFrame({"column": range(1, len(result.labels) + 1), "frame_label": result.labels})
-        written += write_table(sidecar_table, sidecar, "tsv", inputs=inputs)
+        inserts = [not label for label in result.labels] if keep_inserts else None
+        written += write_table(label_sidecar_table(result.labels, inserts), sidecar, "tsv", inputs=inputs)
     if report_path is not None:
         written += write_table(placement_table(result), report_path, metadata={"shuffles": shuffles},
                                inputs=inputs)

@@ -28,7 +28,7 @@ from .frame import Site, reference_chain, sites
 from .labelcodec import decode_labels
 from .place import GLOBIN_EVALUE, PlacedSequence, place_many
 
-__all__ = ["ColumnMapping", "map_columns", "column_sites", "sidecar_path", "read_label_sidecar",
+__all__ = ["ColumnMapping", "map_columns", "column_sites", "sidecar_path", "read_label_sidecar", "label_sidecar_table",
            "ANCHOR_CANDIDATES"]
 
 #: Rows tried as anchors when none is named: the ones with the most residues.
@@ -72,8 +72,25 @@ def sidecar_path(alignment_path: str | os.PathLike) -> Path:
     return Path(path + ".frame.tsv")
 
 
-def read_label_sidecar(path: str | os.PathLike, n_columns: int) -> tuple[str, ...]:
-    """Labels from a sidecar table (tab-separated ``column``, ``frame_label``; header row)."""
+def label_sidecar_table(labels: tuple[str, ...] | list[str], inserts: list[bool] | None = None):
+    """The sidecar table: ``column`` (as written), ``frame_label``, ``match_column`` (the column's number once
+    insert columns are dropped, as an A2M reader does by default; empty for insert columns)."""
+    import pandas as pd
+
+    inserts = inserts or [False] * len(labels)
+    match, count = [], 0
+    for is_insert in inserts:
+        count += not is_insert
+        match.append("" if is_insert else str(count))
+    return pd.DataFrame({"column": range(1, len(labels) + 1), "frame_label": list(labels), "match_column": match})
+
+
+def read_label_sidecar(path: str | os.PathLike, n_columns: int) -> tuple[str, ...] | None:
+    """Labels from a sidecar table (see :func:`label_sidecar_table`), or None if it does not fit.
+
+    It fits an alignment with as many columns as it has rows, or as many as it has match columns (an A2M
+    file read without its insert columns).
+    """
     source = str(path)
     try:
         lines = Path(path).read_text(encoding="utf-8").splitlines()
@@ -82,14 +99,24 @@ def read_label_sidecar(path: str | os.PathLike, n_columns: int) -> tuple[str, ..
     if not lines or lines[0].split("\t")[:2] != ["column", "frame_label"]:
         raise InputError("frame label table must start with the header 'column<TAB>frame_label'", source=source,
                          line=1)
-    labels = [""] * n_columns
+    rows = []
     for number, line in enumerate(lines[1:], start=2):
         if not line.strip():
             continue
-        fields = line.split("\t")
-        if not fields[0].isdigit() or not 1 <= int(fields[0]) <= n_columns:
-            raise InputError(f"column {fields[0]!r} is not between 1 and {n_columns}", source=source, line=number)
-        labels[int(fields[0]) - 1] = fields[1].strip() if len(fields) > 1 else ""
+        fields = line.split("\t") + ["", ""]
+        if not fields[0].isdigit() or (fields[2] and not fields[2].isdigit()):
+            raise InputError(f"column {fields[0]!r} is not a column number", source=source, line=number)
+        rows.append((int(fields[0]), fields[1].strip(), int(fields[2]) if fields[2] else None))
+    if len(rows) == n_columns:
+        key = 0
+    elif sum(1 for row in rows if row[2] is not None) == n_columns:
+        key = 2
+    else:
+        return None
+    labels = [""] * n_columns
+    for row in rows:
+        if row[key] is not None and 1 <= row[key] <= n_columns:
+            labels[row[key] - 1] = row[1]
     return tuple(labels)
 
 
@@ -128,8 +155,8 @@ def map_columns(alignment: Alignment, anchor: str | None = None, source_path: st
             return ColumnMapping(tuple(carried), "file", note="frame labels carried by the file")
         if source_path is not None and str(source_path) != "-":
             sidecar = sidecar_path(source_path)
-            if sidecar.is_file():
-                labels = read_label_sidecar(sidecar, alignment.n_columns)
+            labels = read_label_sidecar(sidecar, alignment.n_columns) if sidecar.is_file() else None
+            if labels is not None:
                 return ColumnMapping(labels, "sidecar", note=f"frame labels from {sidecar}")
         rows = _anchor_candidates(alignment, candidates)
     else:
