@@ -23,7 +23,7 @@ import numpy as np
 from .alphabet import GROUP_SOURCES, MATRIX_STAND_IN, N_RESIDUES, RESIDUE_GROUPS, RESIDUE_LETTERS, STANDARD, group_index
 from .errors import OptionError
 
-__all__ = ["CLASSES", "ClassRules", "compatible_pairs", "classify", "load_matrix"]
+__all__ = ["CLASSES", "ClassRules", "compatible_pairs", "classify", "load_matrix", "top_residues"]
 
 #: The column classes (a contract: scripts rely on these words).
 CLASSES = ("invariant", "conservative", "variable", "gap-rich")
@@ -105,6 +105,25 @@ def compatible_pairs(matrix: str = "BLOSUM62", residue_groups: str | None = None
     return table
 
 
+def top_residues(frequencies: np.ndarray, share: float) -> np.ndarray:
+    """The most frequent residues of each column that together carry at least ``share`` of its weight.
+
+    Chosen by descending frequency, ties alphabetical; residues of frequency 0 never count.
+
+    Returns
+    -------
+    numpy.ndarray
+        bool, shape (L, 22).
+    """
+    order = np.argsort(-frequencies, axis=1, kind="stable")
+    ranked = np.take_along_axis(frequencies, order, axis=1)
+    reached = np.cumsum(ranked, axis=1) >= share - _TOLERANCE
+    needed = np.where(reached.any(axis=1), reached.argmax(axis=1) + 1, N_RESIDUES)
+    in_top = np.zeros_like(frequencies, dtype=bool)
+    np.put_along_axis(in_top, order, np.arange(N_RESIDUES)[None, :] < needed[:, None], axis=1)
+    return in_top & (frequencies > 0)
+
+
 def classify(frequencies: np.ndarray, gap_fraction: np.ndarray, n_eff: np.ndarray,
              rules: ClassRules = ClassRules()) -> tuple[np.ndarray, np.ndarray]:
     """Class and low-data flag of every column.
@@ -129,14 +148,7 @@ def classify(frequencies: np.ndarray, gap_fraction: np.ndarray, n_eff: np.ndarra
     has_residue = frequencies.sum(axis=1) > 0
     invariant = frequencies.max(axis=1, initial=0.0) >= rules.invariant_min - _TOLERANCE
 
-    # The top residues that reach group_min, chosen by descending frequency (ties alphabetical).
-    order = np.argsort(-frequencies, axis=1, kind="stable")
-    ranked = np.take_along_axis(frequencies, order, axis=1)
-    reached = np.cumsum(ranked, axis=1) >= rules.group_min - _TOLERANCE
-    needed = np.where(reached.any(axis=1), reached.argmax(axis=1) + 1, N_RESIDUES)
-    in_top = np.zeros_like(frequencies, dtype=bool)
-    np.put_along_axis(in_top, order, np.arange(N_RESIDUES)[None, :] < needed[:, None], axis=1)
-    in_top &= frequencies > 0
+    in_top = top_residues(frequencies, rules.group_min)
     clash = (in_top.astype(np.int64) @ (~compatible_pairs(rules.matrix, rules.residue_groups)).astype(np.int64))
     conservative = ~(clash * in_top).any(axis=1) & has_residue
 

@@ -6,6 +6,7 @@ Exit status: 0 success, 2 bad input or usage (one line on stderr naming the file
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import os
 import sys
@@ -236,6 +237,99 @@ def placement_table(result) -> pd.DataFrame:
     table = pd.DataFrame(rows)
     table["evalue"] = table["evalue"].map(lambda v: f"{v:.2e}")
     return table
+
+
+@cli.command()
+@click.argument("sequences", metavar="SEQUENCES", type=click.Path(dir_okay=True, allow_dash=True))
+@click.option("--family", "family_path", type=click.Path(dir_okay=True, allow_dash=False), default=None,
+              help="Judge departures against this alignment's columns (default: the built-in frame).")
+@click.option("-o", "--output", default=None, help="Summary table, one row per sequence (default: stdout).")
+@click.option("--residues", "residues_path", default=None, help="Per-residue table (position, label, deviation).")
+@click.option("--table", "table_format", type=click.Choice(("tsv", "csv")), default=None,
+              help="Table format (default: from the extension, else tsv).")
+@click.option("--jobs", "-j", type=click.IntRange(1, 256), default=None,
+              help="Worker processes (default: the available cores).")
+@click.option("--batch-size", type=click.IntRange(1, 100000), default=256, show_default=True,
+              help="Sequences per batch handed to a worker.")
+@click.option("--shuffles", type=click.IntRange(0, 1000), default=DEFAULT_SHUFFLES, show_default=True,
+              help="Shuffled copies per sequence for the E-value (0: skip it).")
+@_reader_options
+@_common
+def scan(sequences: str, family_path: str | None, output: str | None, residues_path: str | None,
+         table_format: str | None, jobs: int | None, batch_size: int, shuffles: int, fmt: str | None,
+         keep_inserts: bool, reporter: _Reporter) -> None:
+    """Scan new SEQUENCES (FASTA, gzip, '-' for stdin) against the globin family.
+
+    Per sequence: is it a globin, its nearest reference, helices present, key residues and heme
+    pocket, departures from the family's invariant and conservative columns, and flags. With
+    --residues, one row per residue with its frame label, column class and deviation.
+    """
+    from .io import stream_records
+    from .scan import SUMMARY_COLUMNS, default_jobs, family_from_alignment, frame_family, iter_scan
+    from .tables import table_format_for
+
+    inputs = [sequences, family_path]
+    for path in (output, residues_path):
+        if path is not None:
+            check_not_input(path, inputs)
+    if family_path is not None:
+        from .mapping import map_columns
+
+        aligned = read_alignment(family_path, format=fmt, keep_inserts=keep_inserts)
+        mapping = map_columns(aligned, source_path=family_path)
+        family = family_from_alignment(aligned, labels=mapping.labels)
+        reporter.info(f"family: {aligned.n_rows} sequences, {aligned.n_columns} columns; {mapping.note}")
+    else:
+        family = frame_family()
+    jobs = jobs or default_jobs()
+    summary_format = table_format_for(output, table_format)
+    residue_format = table_format_for(residues_path, table_format)
+    records = ((r.id, r.sequence) for r in stream_records(sequences))
+    counts = {"sequences": 0, "globins": 0, "departing": 0}
+    with contextlib.ExitStack() as stack:
+        out = stack.enter_context(atomic_output(output, inputs))
+        res = stack.enter_context(atomic_output(residues_path, inputs)) if residues_path else None
+        progress = _progress(reporter, "scanning")
+        stack.enter_context(progress) if progress else None
+        task = progress.add_task("scanning", total=None) if progress else None
+        first = True
+        for summary, residues in iter_scan(records, family, residues=res is not None, jobs=jobs,
+                                           batch_size=batch_size, shuffles=shuffles):
+            out.write(_delimited_rows(summary, summary_format, header=first))
+            if res is not None:
+                res.write(_delimited_rows(residues, residue_format, header=first))
+            first = False
+            counts["sequences"] += len(summary)
+            counts["globins"] += int((summary["is_globin"] == "yes").sum())
+            counts["departing"] += int((summary["departures"] > 0).sum())
+            if progress:
+                progress.update(task, advance=len(summary))
+        if first:  # no record at all: still a header
+            out.write(_delimited_rows(pd.DataFrame(columns=list(SUMMARY_COLUMNS)), summary_format, header=True))
+    reporter.info(f"scanned {counts['sequences']} sequences: {counts['globins']} globins, {counts['departing']} "
+                  f"with departures from the family's invariant or conservative columns ({jobs} worker"
+                  f"{'s' if jobs > 1 else ''})")
+    written = [p for p in (output, residues_path) if p not in (None, "-")]
+    if written:
+        reporter.info("wrote " + ", ".join(written))
+
+
+def _delimited_rows(table: pd.DataFrame, fmt: str, header: bool) -> str:
+    from .tables import format_table
+
+    text = format_table(table, fmt)
+    return text if header else text.split("\n", 1)[1]
+
+
+def _progress(reporter: _Reporter, label: str):
+    """A rich progress display on a terminal; None when quiet or not a terminal."""
+    if reporter.quiet or not sys.stderr.isatty():
+        return None
+    from rich.console import Console
+    from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+
+    return Progress(SpinnerColumn(), TextColumn("{task.description}: {task.completed} sequences"),
+                    TimeElapsedColumn(), console=Console(stderr=True), transient=True)
 
 
 @cli.command()

@@ -35,6 +35,8 @@ __all__ = [
     "parse_alignment",
     "SequenceRecord",
     "read_sequences",
+    "RawRecord",
+    "stream_records",
 ]
 
 PathLike = Union[str, os.PathLike]
@@ -775,3 +777,81 @@ def format_alignment(ids: list[str] | tuple[str, ...], rows: list[str], fmt: str
         out.append("//")
         return "\n".join(out) + "\n"
     raise OptionError(f"unknown alignment output format {fmt!r}")
+
+
+# --------------------------------------------------------------------------------------------------
+# streaming unaligned sequences
+
+
+class RawRecord(NamedTuple):
+    """One FASTA record as given: ``sequence`` keeps every character of its lines except blanks."""
+
+    id: str
+    description: str
+    sequence: str
+    line: int
+
+
+def _open_stream(source: PathLike | BinaryIO) -> tuple[BinaryIO, str]:
+    if hasattr(source, "read"):
+        stream, name = source, str(getattr(source, "name", "<stream>"))
+    elif str(source) == "-":
+        stream, name = sys.stdin.buffer, "<stdin>"
+    else:
+        name = str(source)
+        try:
+            stream = open(source, "rb")
+        except FileNotFoundError:
+            raise InputError("no such file", source=name) from None
+        except IsADirectoryError:
+            raise InputError("is a folder, not a file", source=name) from None
+        except PermissionError:
+            raise InputError("cannot be read (permission denied)", source=name) from None
+    buffered = io.BufferedReader(stream) if not hasattr(stream, "peek") else stream
+    if buffered.peek(2)[:2] == _GZIP_MAGIC:
+        buffered = gzip.GzipFile(fileobj=buffered)
+    return buffered, name
+
+
+def stream_records(source: PathLike | BinaryIO) -> Iterator[RawRecord]:
+    """Yield FASTA records one at a time, reading the input line by line (gzip and stdin too).
+
+    Memory stays that of one record whatever the number of records. Characters are not checked here
+    (a scan reports a bad record and goes on); structural problems (no header, binary data, a truncated
+    gzip) raise :class:`~globcons.errors.InputError`.
+    """
+    stream, name = _open_stream(source)
+    identifier: str | None = None
+    description, header_line, pieces = "", 0, []
+    try:
+        for number, raw in enumerate(stream, start=1):
+            if number == 1:
+                if raw.startswith(_BOM):
+                    raw = raw[len(_BOM):]
+                problem = _text_problem(raw)
+                if problem:
+                    raise InputError(problem, source=name, line=1)
+            if b"\x00" in raw:
+                raise InputError("binary data, not a FASTA text", source=name, line=number)
+            line = raw.decode("utf-8", errors="replace").strip()
+            if line.startswith(">"):
+                if identifier is not None:
+                    yield RawRecord(identifier, description, "".join(pieces), header_line)
+                fields = line[1:].strip().split(None, 1)
+                if not fields:
+                    raise InputError("header line has no sequence id", source=name, line=number)
+                identifier, description = fields[0], (fields[1] if len(fields) > 1 else "")
+                header_line, pieces = number, []
+            elif line:
+                if identifier is None:
+                    raise InputError("sequence data before the first '>' header", source=name, line=number)
+                pieces.append("".join(line.split()))
+    except (EOFError, zlib.error, gzip.BadGzipFile):
+        raise InputError("gzip data is truncated or corrupt; the file may be an incomplete download",
+                         source=name) from None
+    finally:
+        if stream is not sys.stdin.buffer:
+            stream.close()
+    if identifier is None:
+        raise InputError("no FASTA header line ('>') found", source=name, line=1)
+    yield RawRecord(identifier, description, "".join(pieces), header_line)

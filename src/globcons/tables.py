@@ -169,14 +169,20 @@ def _md_escape(text: str) -> str:
 
 
 def _delimited(table: pd.DataFrame, sep: str) -> str:
-    buffer = io.StringIO()
+    """tsv/csv through pandas' writer (fast on large tables), with the cell rules of :func:`_text_cell`."""
     import csv
 
-    writer = csv.writer(buffer, delimiter=sep, lineterminator="\n",
+    frame = table.copy()
+    for name in frame.columns:
+        column = frame[name]
+        if column.dtype == bool:
+            frame[name] = np.where(column, "yes", "no")
+        elif pd.api.types.is_float_dtype(column.dtype):
+            frame[name] = column.round(FLOAT_DIGITS) + 0.0  # no "-0.0000"
+        elif column.dtype == object:
+            frame[name] = column.map(_text_cell)
+    return frame.to_csv(sep=sep, index=False, float_format=f"%.{FLOAT_DIGITS}f", na_rep="", lineterminator="\n",
                         quoting=csv.QUOTE_MINIMAL if sep == "," else csv.QUOTE_NONE, escapechar="\\")
-    writer.writerow([str(c) for c in table.columns])
-    writer.writerows(_text_rows(table))
-    return buffer.getvalue()
 
 
 def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] | None = None,
