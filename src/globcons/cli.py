@@ -206,7 +206,7 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
         inserts = [not label for label in result.labels] if keep_inserts else None
         written += write_table(label_sidecar_table(result.labels, inserts), sidecar, "tsv", inputs=inputs)
     if report_path is not None:
-        written += write_table(placement_table(result), report_path, metadata={"shuffles": shuffles},
+        written += write_table(result.summary(), report_path, metadata={"shuffles": shuffles},
                                inputs=inputs)
     non_globins = [p.id for p in result.placed if not p.is_globin] if shuffles else []
     dropped = sum(result.unplaced)
@@ -220,23 +220,6 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
         reporter.warn("frame labels are not carried by FASTA on standard output; use -o FILE or Stockholm")
     if written:
         reporter.info("wrote " + ", ".join(written))
-
-
-def placement_table(result) -> pd.DataFrame:
-    """One row per placed sequence (the `align --report` table)."""
-    from .frame import HELICES
-
-    rows = []
-    for placed, unplaced in zip(result.placed, result.unplaced):
-        row = {"id": placed.id, "length": len(placed.sequence), "nearest_reference": placed.nearest_reference,
-               "identity": round(placed.identity, 1), "score": round(placed.score, 1), "evalue": placed.evalue,
-               "is_globin": "yes" if placed.is_globin else "no", "unplaced_residues": unplaced}
-        for helix in HELICES:
-            row[f"coverage_{helix}"] = placed.coverage.get(helix, float("nan"))
-        rows.append(row)
-    table = pd.DataFrame(rows)
-    table["evalue"] = table["evalue"].map(lambda v: f"{v:.2e}")
-    return table
 
 
 @cli.command()
@@ -289,9 +272,11 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     with contextlib.ExitStack() as stack:
         out = stack.enter_context(atomic_output(output, inputs))
         res = stack.enter_context(atomic_output(residues_path, inputs)) if residues_path else None
-        progress = _progress(reporter, "scanning")
-        stack.enter_context(progress) if progress else None
-        task = progress.add_task("scanning", total=None) if progress else None
+        progress = _progress(reporter)
+        task = None
+        if progress is not None:
+            stack.enter_context(progress)
+            task = progress.add_task("scanning", total=None)
         first = True
         for summary, residues in iter_scan(records, family, residues=res is not None, jobs=jobs,
                                            batch_size=batch_size, shuffles=shuffles):
@@ -321,7 +306,7 @@ def _delimited_rows(table: pd.DataFrame, fmt: str, header: bool) -> str:
     return text if header else text.split("\n", 1)[1]
 
 
-def _progress(reporter: _Reporter, label: str):
+def _progress(reporter: _Reporter):
     """A rich progress display on a terminal; None when quiet or not a terminal."""
     if reporter.quiet or not sys.stderr.isatty():
         return None

@@ -36,6 +36,7 @@ import numpy as np
 from .alignment import Alignment
 from .alphabet import BYTE_TO_CODE, GAP, N_RESIDUES, UNKNOWN, decode, encode
 from .dp import align, align_scores
+from .frame import HELICES
 from .profile import Profile, frame_profile
 from .refalign import ReferenceAlignment, reference_alignment
 
@@ -275,6 +276,22 @@ class FrameAlignment:
     @property
     def ids(self) -> tuple[str, ...]:
         return tuple(p.id for p in self.placed)
+
+    def summary(self) -> "pd.DataFrame":
+        """One row per sequence: nearest reference, identity, score, E-value, helix coverage, residues left out."""
+        import pandas as pd
+
+        rows = []
+        for placed, unplaced in zip(self.placed, self.unplaced):
+            row = {"id": placed.id, "length": len(placed.sequence), "nearest_reference": placed.nearest_reference,
+                   "identity": round(placed.identity, 1), "score": round(placed.score, 1),
+                   "evalue": f"{placed.evalue:.2e}" if np.isfinite(placed.evalue) else "",
+                   "is_globin": ("yes" if placed.is_globin else "no") if np.isfinite(placed.evalue) else "",
+                   "unplaced_residues": unplaced}
+            for helix in HELICES:
+                row[f"coverage_{helix}"] = placed.coverage.get(helix, float("nan"))
+            rows.append(row)
+        return pd.DataFrame(rows)
 
     def to_alignment(self, source: str = "<placed>") -> Alignment:
         """The rows as an :class:`~globcons.alignment.Alignment`, labels in its column annotations."""
