@@ -33,21 +33,18 @@ from typing import Iterable, Iterator
 import numpy as np
 import pandas as pd
 
-from .alignment import Alignment
-from .alphabet import N_RESIDUES, RESIDUE_LETTERS, STANDARD, encode
-from .classes import ClassRules, classify, compatible_pairs, top_residues
-from .counts import column_counts
+from .alphabet import N_RESIDUES, encode
+from .classes import compatible_pairs
 from .dp import align
 from .errors import OptionError
-from .frame import HELICES, is_helix, segment_of
+from .family import Family, family_from_alignment, frame_family
+from .frame import HELICES
 from .place import DEFAULT_SHUFFLES, PlacedSequence, place_many
-from .profile import Profile, frame_profile, profile_from_counts
+from .profile import frame_profile
 from .refalign import reference_alignment
-from .scores import gap_fraction, residue_frequencies, residue_strings
-from .weights import compute_weights
 
-__all__ = ["Family", "frame_family", "family_from_alignment", "scan", "iter_scan", "FLAGS", "KEY_LABELS",
-           "SUMMARY_COLUMNS", "RESIDUE_COLUMNS", "default_jobs"]
+__all__ = ["scan", "iter_scan", "FLAGS", "KEY_LABELS", "SUMMARY_COLUMNS", "RESIDUE_COLUMNS", "default_jobs",
+           "Family", "frame_family", "family_from_alignment"]
 
 #: Key positions reported in ``key_residues``, by their canonical frame label.
 KEY_LABELS = ("F8", "E7", "CD1", "B10", "E11")
@@ -78,76 +75,6 @@ SUMMARY_COLUMNS = ("id", "length", "nearest_reference", "identity", "score", "ev
                    "departures_conservative", "flags")
 RESIDUE_COLUMNS = ("id", "position", "residue", "frame_label", "column", "column_class", "family_residues",
                    "deviation")
-
-
-@dataclass(frozen=True, eq=False)
-class Family:
-    """What departures are judged against.
-
-    Attributes
-    ----------
-    name
-        ``"globin frame"`` or the alignment's source.
-    profile
-        The profile queries are aligned to (None for the frame: the frame placement is used).
-    classes
-        (M,) column classes.
-    consensus
-        (M,) residue codes of the top residue per column.
-    groups
-        (M, 22) bool: the residues of each column's substitution group (those carrying ``group_min``).
-    family_residues
-        (M,) strings of the top residues (``"H:0.97,Q:0.03"``, at most three).
-    matrix
-        The matrix that judges ``leaves-group``.
-    """
-
-    name: str
-    profile: Profile | None
-    classes: np.ndarray
-    consensus: np.ndarray
-    groups: np.ndarray
-    family_residues: np.ndarray
-    matrix: str = "BLOSUM62"
-    residue_groups: str | None = None
-
-    @property
-    def n_columns(self) -> int:
-        return self.classes.size
-
-
-def _family_tables(codes: np.ndarray, rules: ClassRules, weights: str = "henikoff"):
-    counts = column_counts(codes, compute_weights(codes, weights).values)
-    frequencies = residue_frequencies(counts)
-    n_eff = counts[:, :N_RESIDUES].sum(axis=1)
-    classes, _ = classify(frequencies, gap_fraction(counts), n_eff, rules)
-    top3 = [",".join(item.split(",")[:3]) for item in residue_strings(frequencies)]
-    return counts, frequencies, classes, top3
-
-
-def frame_family(rules: ClassRules = ClassRules(min_neff=0)) -> Family:
-    """The built-in family: the reference chains on the frame and the classes of their columns."""
-    reference = reference_alignment()
-    _, frequencies, classes, top3 = _family_tables(reference.codes, rules)
-    return Family("globin frame", None, classes, frequencies.argmax(axis=1), top_residues(frequencies, rules.group_min),
-                  np.array(top3, dtype=object), rules.matrix, rules.residue_groups)
-
-
-def family_from_alignment(alignment: Alignment, rules: ClassRules = ClassRules(), weights: str = "henikoff",
-                          labels: tuple[str, ...] | None = None) -> Family:
-    """A family from a user's alignment: its profile (Henikoff-weighted) and its column classes.
-
-    ``labels`` (frame labels per column, e.g. from :func:`globcons.mapping.map_columns`) set the helix
-    gap costs of the profile; without them every column takes the loop costs.
-    """
-    counts, frequencies, classes, top3 = _family_tables(alignment.codes, rules, weights)
-    labels = labels or ("",) * alignment.n_columns
-    segments = tuple(segment_of(label) if label else "" for label in labels)
-    in_helix = np.array([is_helix(s) for s in segments], dtype=bool)
-    profile = profile_from_counts(alignment.source, counts, labels, segments, in_helix, rules.matrix)
-    return Family(alignment.source, profile, classes, frequencies.argmax(axis=1),
-                  top_residues(frequencies, rules.group_min), np.array(top3, dtype=object), rules.matrix,
-                  rules.residue_groups)
 
 
 # --------------------------------------------------------------------------------------------------
