@@ -15,6 +15,7 @@ import warnings
 from typing import Callable
 
 import click
+import numpy as np
 import pandas as pd
 
 from ._version import __version__
@@ -22,7 +23,7 @@ from .alphabet import RESIDUE_GROUPS
 from .classes import ClassRules
 from .columns import ScoreOptions, score_columns, summarise
 from .errors import GlobconsError
-from .errors import InputError
+from .errors import InputError, OptionError
 from .io import ALIGNMENT_OUTPUTS, FORMATS, alignment_format_for, format_alignment, read_alignment, read_sequences
 from .place import DEFAULT_SHUFFLES, GLOBIN_EVALUE
 from .tables import TABLE_FORMATS, atomic_output, check_not_input, write_table
@@ -315,6 +316,148 @@ def _progress(reporter: _Reporter):
 
     return Progress(SpinnerColumn(), TextColumn("{task.description}: {task.completed} sequences"),
                     TimeElapsedColumn(), console=Console(stderr=True), transient=True)
+
+
+def _target_options(command: Callable) -> Callable:
+    options = [
+        click.option("--family", "family_path", type=click.Path(dir_okay=True), default=None,
+                     help="Judge against this alignment's columns (default: the built-in frame)."),
+        click.option("--target", "target_id", default=None,
+                     help="The target's id: a record of TARGET, or a row of --family when TARGET is omitted."),
+        click.option("--numbering", type=click.Choice(("given", "mature")), default="given", show_default=True,
+                     help="given: count the target as given; mature: traditional numbering without the "
+                          "initiator Met (p. names always count from the Met)."),
+        click.option("-o", "--output", default=None, help="Output table (default: standard output)."),
+        click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
+                     help="Table format (default: from the extension, else tsv)."),
+    ]
+    for option in reversed(options):
+        command = option(command)
+    return command
+
+
+def _load_target(target_path: str | None, target_id: str | None, family_path: str | None, numbering: str,
+                 reporter: _Reporter):
+    """The target and the family, from TARGET / --target / --family."""
+    from .family import family_from_alignment, frame_family
+    from .mutations import prepare_target
+
+    family, aligned = frame_family(), None
+    if family_path is not None:
+        from .mapping import map_columns
+
+        aligned = read_alignment(family_path)
+        mapping = map_columns(aligned, source_path=family_path)
+        family = family_from_alignment(aligned, labels=mapping.labels)
+        reporter.info(f"family: {aligned.n_rows} sequences, {aligned.n_columns} columns; {mapping.note}")
+    if target_path is None:
+        if aligned is None or target_id is None:
+            raise click.UsageError("give a TARGET file, or --target ID naming a row of --family")
+        if target_id not in aligned.ids:
+            raise OptionError(f"--target {target_id!r} is not a row of {family_path}")
+        row = aligned.ids.index(target_id)
+        codes = aligned.codes[row]
+        occupied = np.flatnonzero(codes != 23)
+        from .alphabet import decode
+
+        sequence = decode(codes[occupied])
+        return prepare_target(sequence, target_id, family, numbering, row_columns=occupied)
+    records = list(read_sequences(target_path))
+    if target_id is not None:
+        chosen = [r for r in records if r.id == target_id]
+        if not chosen:
+            raise OptionError(f"--target {target_id!r} is not a record of {target_path}")
+        record = chosen[0]
+    elif len(records) != 1:
+        raise InputError(f"holds {len(records)} sequences; a target is one (choose with --target ID)",
+                         source=str(target_path))
+    else:
+        record = records[0]
+    return prepare_target(record.sequence, record.id, family, numbering)
+
+
+def _write_with_caution(table, output, table_format, inputs, metadata, reporter: _Reporter) -> None:
+    from .mutations import CAUTION
+    from .tables import format_table, table_format_for
+
+    fmt = table_format_for(output, table_format)
+    text = format_table(table, fmt, metadata)
+    if fmt == "md":
+        text += "\n" + CAUTION + "\n"
+    with atomic_output(output, inputs) as stream:
+        stream.write(text)
+    click.echo(CAUTION, err=True)  # always, even with --quiet
+    if output not in (None, "-"):
+        reporter.info(f"wrote {output}")
+
+
+@cli.command()
+@click.argument("target_path", metavar="[TARGET]", required=False, type=click.Path(dir_okay=True, allow_dash=True))
+@click.option("--mutations", "mutation_list", default=None,
+              help="Comma-separated: E6V, Glu6Val, p.Glu7Val, p.E7V, or label form A3:V / A3:Val.")
+@click.option("--mutations-file", type=click.Path(dir_okay=False), default=None, help="One mutation per line.")
+@_target_options
+@_common
+def check(target_path: str | None, mutation_list: str | None, mutations_file: str | None, family_path: str | None,
+          target_id: str | None, numbering: str, output: str | None, table_format: str | None,
+          reporter: _Reporter) -> None:
+    """Judge proposed mutations of one TARGET sequence (FASTA) against the family.
+
+    Each row: the position as given, mature and HGVS, the frame label, the column class, how often the
+    family has the new residue, the substitution score, property changes, a verdict (locked, guarded,
+    open) and the reasons in plain words.
+    """
+    from .mutations import check as check_mutations
+    from .notation import parse_mutation_list, read_mutation_file
+
+    if not mutation_list and not mutations_file:
+        raise click.UsageError("give --mutations LIST or --mutations-file FILE")
+    inputs = [target_path, family_path, mutations_file]
+    if output is not None:
+        check_not_input(output, inputs)
+    mutations = (parse_mutation_list(mutation_list) if mutation_list else []) + \
+        (read_mutation_file(mutations_file) if mutations_file else [])
+    target = _load_target(target_path, target_id, family_path, numbering, reporter)
+    table = check_mutations(target, mutations)
+    counts = table["verdict"].value_counts().to_dict()
+    _write_with_caution(table, output, table_format, inputs, {"target": target.id, "numbering": numbering,
+                        "family": target.family.name, "nearest_reference": target.placed.nearest_reference},
+                        reporter)
+    reporter.info(f"{len(table)} mutations of {target.id} (nearest {target.placed.nearest_reference}): "
+                  + ", ".join(f"{counts.get(v, 0)} {v}" for v in ("locked", "guarded", "open")))
+
+
+@cli.command()
+@click.argument("target_path", metavar="[TARGET]", required=False, type=click.Path(dir_okay=True, allow_dash=True))
+@_target_options
+@click.option("--top", type=click.IntRange(1, None), default=None, help="Keep the N most tolerant positions.")
+@click.option("--exclude-labels", default="", help="Comma-separated frame labels to leave out (e.g. F8,E7).")
+@click.option("--exclude-helices", default="", help="Comma-separated helices to leave out (e.g. A,H).")
+@click.option("--exclude-kinds", default="", help="Comma-separated site kinds to leave out (e.g. heme-ligand).")
+@_common
+def plan(target_path: str | None, family_path: str | None, target_id: str | None, numbering: str,
+         output: str | None, table_format: str | None, top: int | None, exclude_labels: str, exclude_helices: str,
+         exclude_kinds: str, reporter: _Reporter) -> None:
+    """Rank every position of one TARGET sequence for mutation, most tolerant first.
+
+    With the verdict, the tolerance score (see the README), the family's best-supported substitutions
+    (weighted frequency and substitution score from the wild type) and the reasons.
+    """
+    from .mutations import rank_sites
+
+    inputs = [target_path, family_path]
+    if output is not None:
+        check_not_input(output, inputs)
+    target = _load_target(target_path, target_id, family_path, numbering, reporter)
+    split = lambda text: [item.strip() for item in text.split(",") if item.strip()]  # noqa: E731
+    table = rank_sites(target, exclude_labels=split(exclude_labels), exclude_helices=split(exclude_helices),
+                       exclude_kinds=split(exclude_kinds), top=top)
+    _write_with_caution(table, output, table_format, inputs, {"target": target.id, "numbering": numbering,
+                        "family": target.family.name, "nearest_reference": target.placed.nearest_reference},
+                        reporter)
+    counts = table["verdict"].value_counts().to_dict()
+    reporter.info(f"{len(table)} positions of {target.id} ranked: "
+                  + ", ".join(f"{counts.get(v, 0)} {v}" for v in ("open", "guarded", "locked")))
 
 
 @cli.command()

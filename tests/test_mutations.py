@@ -1,0 +1,155 @@
+"""Mutation checks and site ranking on real chains and a synthetic family.
+
+Sources: sequences are the UniProt entries in globcons/data/frame (P68871 beta, P69905 alpha, P02185 sperm
+whale myoglobin); the positions (beta 6 = A3 the sickle-cell position, beta His92 / alpha His87 = F8 the
+proximal His, myoglobin His64 = E7 the distal His) are nomenclature from memory, widely cited.
+"""
+
+import numpy as np
+import pytest
+
+from globcons.alignment import Alignment
+from globcons.alphabet import BYTE_TO_CODE
+from globcons.cli import main
+from globcons.errors import OptionError
+from globcons.family import family_from_alignment
+from globcons.frame import reference_chain
+from globcons.mutations import CAUTION, check, prepare_target, rank_sites
+
+BETA = reference_chain("human_hemoglobin_beta")
+ALPHA = reference_chain("human_hemoglobin_alpha")
+MB = reference_chain("sperm_whale_myoglobin")
+
+
+@pytest.fixture(scope="module")
+def mature_beta():
+    return prepare_target(BETA.mature_sequence, "beta")
+
+
+def test_beta_sickle_position_is_a3_and_not_locked(mature_beta):
+    row = check(mature_beta, ["E6V"]).iloc[0]
+    assert (row["frame_label"], row["position"], row["verdict"]) == ("A3", 6, "open")
+    assert row["property_change"].startswith("hydropathy +7.7")  # Kyte-Doolittle: E -3.5 -> V 4.2
+
+
+def test_beta_proximal_his_is_locked_with_the_heme_ligand_reason(mature_beta):
+    row = check(mature_beta, ["H92Y"]).iloc[0]
+    assert row["frame_label"] == "F8" and row["verdict"] == "locked"
+    assert "heme iron's protein ligand" in row["reasons"] and row["column_class"] == "invariant"
+
+
+def test_alpha_f8_and_myoglobin_distal_his():
+    alpha = check(("alpha", ALPHA.mature_sequence), ["H87Q"]).iloc[0]
+    assert alpha["frame_label"] == "F8" and alpha["verdict"] == "locked"
+    mb = check(("mb", MB.mature_sequence), ["H64L"]).iloc[0]
+    assert mb["frame_label"] == "E7" and mb["verdict"] == "locked" and "distal His" in mb["reasons"]
+
+
+def test_every_notation_gives_the_same_row():
+    met_beta = prepare_target(BETA.full_sequence, "beta")
+    mature = prepare_target(BETA.full_sequence, "beta", numbering="mature")
+    rows = [check(mature, [text]).iloc[0] for text in ("E6V", "Glu6Val")]
+    rows += [check(met_beta, [text]).iloc[0] for text in ("E7V", "p.Glu7Val", "p.E7V", "A3:V", "A3:Val")]
+    keep = ["position", "mature_position", "hgvs", "frame_label", "column_class", "blosum", "property_change",
+            "verdict", "reasons"]
+    first = rows[0][keep].tolist()
+    assert first[:4] == [7, 6, "p.Glu7Val", "A3"]
+    for row in rows[1:]:
+        assert row[keep].tolist() == first
+
+
+def test_hgvs_on_the_met_led_chain_equals_e6v_on_the_mature_chain(mature_beta):
+    met_led = check(prepare_target(BETA.full_sequence, "beta"), ["p.Glu7Val"]).iloc[0]
+    plain = check(prepare_target(BETA.mature_sequence, "beta", numbering="mature"), ["E6V"]).iloc[0]
+    for name in ("mature_position", "hgvs", "frame_label", "column_class", "verdict", "reasons"):
+        assert met_led[name] == plain[name], name
+    assert plain["hgvs"] == "p.Glu7Val" and plain["mature_position"] == 6
+
+
+def test_wrong_wild_type_and_bad_positions_are_errors(mature_beta):
+    with pytest.raises(OptionError, match="has E at position 6.*not K"):
+        check(mature_beta, ["K6V"])
+    with pytest.raises(OptionError, match="outside the target"):
+        check(mature_beta, ["E600V"])
+    with pytest.raises(OptionError, match="add --numbering mature"):
+        check(mature_beta, ["p.Glu7Val"])  # a target without Met needs to be told its Met was removed
+    with pytest.raises(OptionError, match="no residue at frame label"):
+        check(mature_beta, ["CE1:V"])  # beta names that stretch CD, not CE
+
+
+def test_pro_inside_a_helix_is_guarded_at_least():
+    # Take the most tolerant helix position past the first turn (place 4 or more) and put a Pro there.
+    target = prepare_target(MB.mature_sequence, "mb")
+    plan = rank_sites(target)
+    open_helix = plan[(plan["verdict"] == "open") & plan["frame_label"].str.match(r"^[A-H](1[0-9]|[4-9])$")]
+    row = open_helix.iloc[0]
+    mutation = f"{row['residue']}{row['position']}P"
+    result = check(target, [mutation]).iloc[0]
+    assert result["verdict"] == "guarded" and "Pro inside helix" in result["reasons"]
+
+
+def planted_family():
+    """40 synthetic rows from sperm whale myoglobin (seeded): 10 columns kept invariant, the rest half random."""
+    rng = np.random.default_rng(11)
+    sequence = MB.mature_sequence
+    keep = np.sort(rng.choice(len(sequence), 10, replace=False))
+    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
+    rows = []
+    for _ in range(40):
+        row = np.array(list(sequence))
+        change = rng.random(row.size) < 0.5
+        change[keep] = False
+        row[change] = rng.choice(letters, change.sum())
+        rows.append("".join(row))
+    raw = np.frombuffer("".join(rows).encode(), dtype=np.uint8)
+    alignment = Alignment(ids=tuple(f"f{i}" for i in range(40)), codes=BYTE_TO_CODE[raw].reshape(40, -1).copy())
+    return alignment, keep
+
+
+def test_plan_never_ranks_invariant_columns_above_variable_ones():
+    alignment, keep = planted_family()
+    family = family_from_alignment(alignment)
+    target = prepare_target(MB.mature_sequence, "mb", family=family, row_columns=np.arange(len(MB.mature_sequence)))
+    plan = rank_sites(target)
+    classes = plan["column_class"].tolist()
+    last_variable = max(i for i, c in enumerate(classes) if c == "variable")
+    first_invariant = min(i for i, c in enumerate(classes) if c == "invariant")
+    assert last_variable < first_invariant
+    invariant_positions = set(plan.loc[plan["column_class"] == "invariant", "position"])
+    assert set((keep + 1).tolist()) <= invariant_positions
+    assert (plan.loc[plan["column_class"] == "invariant", "verdict"] == "locked").all()
+
+
+def test_plan_options_exclude_and_top():
+    target = prepare_target(MB.mature_sequence, "mb")
+    plan = rank_sites(target, exclude_helices=["A", "H"], exclude_kinds=["heme-ligand"], top=20)
+    assert len(plan) == 20 and plan["rank"].tolist() == list(range(1, 21))
+    full = rank_sites(target, exclude_helices=["A", "H"], exclude_kinds=["heme-ligand"])
+    assert not full["frame_label"].str.match(r"^[AH][0-9]").any() and "F8" not in set(full["frame_label"])
+    with pytest.raises(OptionError, match="unknown helix"):
+        rank_sites(target, exclude_helices=["Q"])
+
+
+def test_cli_prints_the_caution_even_when_quiet(tmp_path, capsys):
+    fasta = tmp_path / "beta.fa"
+    fasta.write_text(f">beta\n{BETA.full_sequence}\n")
+    assert main(["check", str(fasta), "--mutations", "E7V,H93Y", "--quiet"]) == 0
+    captured = capsys.readouterr()
+    assert captured.err.strip().startswith("Caution:") and CAUTION in captured.err
+    lines = captured.out.splitlines()
+    assert lines[0].split("\t")[:3] == ["mutation", "position", "mature_position"] and len(lines) == 3
+    out = tmp_path / "plan.md"
+    assert main(["plan", str(fasta), "--top", "5", "-o", str(out), "--quiet"]) == 0
+    assert out.read_text().rstrip().splitlines()[-1].startswith("Caution:")
+
+
+def test_cli_mismatch_is_exit_2_naming_the_residue(tmp_path, capsys):
+    fasta = tmp_path / "beta.fa"
+    fasta.write_text(f">beta\n{BETA.full_sequence}\n")
+    assert main(["check", str(fasta), "--mutations", "E6V"]) == 2
+    err = capsys.readouterr().err
+    assert "E6V: the target has P at position 6" in err and "--numbering mature" in err
+    mutations = tmp_path / "m.txt"
+    mutations.write_text("# proposals\nE7V\n\nnot-a-mutation\n")
+    assert main(["check", str(fasta), "--mutations-file", str(mutations)]) == 2
+    assert "m.txt:4" in capsys.readouterr().err
