@@ -11,8 +11,12 @@ random substitution along a two-level tree (site ancestors, then individuals), w
 - N- and C-terminal fragments and an insertion in the CD corner (gap-rich columns),
 - a few unknown residues (X), as sequencing leaves them.
 
-Run from the repository root: ``python data_examples/make_demo.py``. It is deterministic (fixed seed)
-and writes data_examples/demo_family.fasta and the packaged copy src/globcons/data/demo/.
+It also writes the survey's "new" sequences to scan (demo_queries.fasta, simulated the same way with
+planted defects: a lost proximal His, a truncation, an internal stop, a scrambled non-globin) and a list
+of proposed mutations for one of them (demo_mutations.txt).
+
+Run from the repository root: ``python data_examples/make_demo.py``. It is deterministic (fixed seeds)
+and writes data_examples/ and the packaged copy src/globcons/data/demo/.
 """
 
 from __future__ import annotations
@@ -81,6 +85,51 @@ def simulate(rng: np.random.Generator) -> list[tuple[str, str, str]]:
     return records
 
 
+QUERY_SEED = 20261202
+
+
+def simulate_queries(rng: np.random.Generator) -> list[tuple[str, str, str]]:
+    """New sequences from a fifth (fictional) survey site, some with planted defects."""
+    base = SPERM_WHALE_MB
+
+    def drift(sequence: str, rate: float) -> str:
+        letters = list(sequence)
+        for index in np.flatnonzero(rng.random(len(letters)) < rate):
+            if index + 1 in FIXED:
+                continue
+            letters[index] = rng.choice(list(DRIFT_GROUP[letters[index]]))
+        return "".join(letters)
+
+    normal_a = drift(base, 0.2)
+    normal_b = drift(base, 0.3)
+    lost_his = drift(base, 0.2)
+    lost_his = lost_his[:92] + "Q" + lost_his[93:]  # F8 His93 -> Gln
+    truncated = drift(base, 0.2)[35:]  # starts at C1: helices A and B missing
+    stopped = drift(base, 0.2)
+    stopped = stopped[:100] + "*" + stopped[101:]
+    scrambled = "".join(rng.permutation(list(base)))
+    note = "synthetic; fictional Kelpie Bay Marine Station survey, site 5"
+    return [
+        ("KBM-S5-01", f"{note}; full length", normal_a),
+        ("KBM-S5-02", f"{note}; full length", normal_b),
+        ("KBM-S5-03", f"{note}; proximal His replaced (planted)", lost_his),
+        ("KBM-S5-04", f"{note}; N-terminal truncation (planted)", truncated),
+        ("KBM-S5-05", f"{note}; internal stop (planted)", stopped),
+        ("KBM-S5-06", f"{note}; scrambled, not a globin (planted)", scrambled),
+    ]
+
+
+DEMO_MUTATIONS = """# Proposed mutations of KBM-S5-01 (synthetic demo; mature numbering, no initiator Met)
+H93Q
+H64L
+L29F
+V68A
+A71P
+K78E
+E4:D
+"""
+
+
 def write_fasta(records: list[tuple[str, str, str]], path: Path, width: int = 60) -> None:
     with open(path, "w", encoding="ascii", newline="\n") as stream:
         for identifier, description, sequence in records:
@@ -95,10 +144,17 @@ def main() -> None:
     records = simulate(rng)
     target = root / "data_examples" / "demo_family.fasta"
     write_fasta(records, target)
+    queries = simulate_queries(np.random.default_rng(QUERY_SEED))
+    write_fasta(queries, root / "data_examples" / "demo_queries.fasta")
+    target_record = [queries[0]]
+    write_fasta(target_record, root / "data_examples" / "demo_target.fasta")
+    (root / "data_examples" / "demo_mutations.txt").write_text(DEMO_MUTATIONS, encoding="ascii")
     packaged = root / "src" / "globcons" / "data" / "demo"
     packaged.mkdir(parents=True, exist_ok=True)
-    shutil.copyfile(target, packaged / "demo_family.fasta")
-    print(f"wrote {len(records)} sequences to {target} and {packaged}")
+    for name in ("demo_family.fasta", "demo_queries.fasta", "demo_target.fasta", "demo_mutations.txt"):
+        shutil.copyfile(root / "data_examples" / name, packaged / name)
+    print(f"wrote {len(records)} family sequences, {len(queries)} queries and the mutation list to "
+          f"{root / 'data_examples'} and {packaged}")
 
 
 if __name__ == "__main__":

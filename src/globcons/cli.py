@@ -465,12 +465,17 @@ def plan(target_path: str | None, family_path: str | None, target_id: str | None
               help="Folder for the demo's outputs (created if missing; other files in it are left alone).")
 @_common
 def demo(out_dir: str, reporter: _Reporter) -> None:
-    """Run the main job on the embedded demo data (a synthetic myoglobin family)."""
+    """Run the whole job on the embedded demo data (a synthetic myoglobin family of a fictional survey).
+
+    Classes the family's columns, scans the survey's new sequences, checks proposed mutations of one of
+    them and writes the offline report.
+    """
     from rich.console import Console
     from rich.table import Table
 
     from .classes import CLASSES
     from .demo import run_demo
+    from .mutations import CAUTION
 
     result = run_demo(out_dir)
     counts = result.table.attrs["class_counts"]
@@ -485,7 +490,18 @@ def demo(out_dir: str, reporter: _Reporter) -> None:
         console.print(overview)
     reporter.info(result.summary)
     _warn_low_data(result.table, reporter)
-    reporter.info(f"outputs are in {os.path.abspath(out_dir)}: " + ", ".join(os.path.basename(f) for f in result.files))
+    scanned = result.scan_summary
+    reporter.info(f"scanned {len(scanned)} new sequences: {int((scanned['is_globin'] == 'yes').sum())} globins; "
+                  f"pockets: " + ", ".join(f"{i} {p}" for i, p in zip(scanned["id"], scanned["pocket"])))
+    verdicts = result.checks["verdict"].value_counts().to_dict()
+    reporter.info(f"checked {len(result.checks)} proposed mutations: "
+                  + ", ".join(f"{verdicts.get(v, 0)} {v}" for v in ("locked", "guarded", "open")))
+    click.echo(CAUTION, err=True)
+    main_files = [os.path.relpath(f, out_dir) for f in result.files
+                  if os.path.basename(f) in ("columns.tsv", "scan_summary.tsv", "scan_residues.tsv", "checks.tsv")
+                  and os.path.dirname(os.path.abspath(f)) == os.path.abspath(out_dir)]
+    reporter.info(f"outputs are in {os.path.abspath(out_dir)}: " + ", ".join(main_files)
+                  + f"; open {os.path.abspath(str(result.report))} in a browser")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -531,5 +547,15 @@ def entry() -> None:  # pragma: no cover - console script shim
     sys.exit(main())
 
 
+
+
+# Commands defined in their own modules register themselves on `cli` when imported.
+from . import cli_figures  # noqa: E402,F401
+from . import cli_paint  # noqa: E402,F401
+from . import cli_report  # noqa: E402,F401
+
 if __name__ == "__main__":  # pragma: no cover
-    entry()
+    # Run through the package module so that every command module registers on the same group.
+    from globcons.cli import main as _main
+
+    sys.exit(_main())
