@@ -156,3 +156,13 @@ def test_scan_cli_bad_input_and_summary_line(tmp_path, capsys):
     captured = capsys.readouterr()
     assert "scanned 2 sequences: 1 globins" in captured.err
     assert captured.out.splitlines()[2].split("\t")[-1] == "invalid-characters"
+
+
+def test_scan_heatmap_option_writes_a_figure(tmp_path, capsys):
+    fasta = tmp_path / "q.fa"
+    fasta.write_text(f">mb\n{MB}\n>H93Y\n{MB[:92]}Y{MB[93:]}\n")
+    assert main(["scan", str(fasta), "-o", str(tmp_path / "s.tsv"), "--heatmap", str(tmp_path / "map.svg"),
+                 "--quiet"]) == 0
+    assert "<svg" in (tmp_path / "map.svg").read_text()[:500]
+    assert main(["scan", str(fasta), "--heatmap", str(tmp_path / "map.bmp")]) == 2
+    assert not (tmp_path / "map.bmp").exists()

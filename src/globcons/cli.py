@@ -237,11 +237,14 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
               help="Sequences per batch handed to a worker.")
 @click.option("--shuffles", type=click.IntRange(0, 1000), default=DEFAULT_SHUFFLES, show_default=True,
               help="Shuffled copies per sequence for the E-value (0: skip it).")
+@click.option("--heatmap", "heatmap_path", default=None,
+              help="Draw the departures (sequences x frame positions) to this .png/.svg/.pdf; keeps the "
+                   "per-residue rows in memory, so meant for up to a few thousand sequences.")
 @_reader_options
 @_common
 def scan(sequences: str, family_path: str | None, output: str | None, residues_path: str | None,
-         table_format: str | None, jobs: int | None, batch_size: int, shuffles: int, fmt: str | None,
-         keep_inserts: bool, reporter: _Reporter) -> None:
+         table_format: str | None, jobs: int | None, batch_size: int, shuffles: int, heatmap_path: str | None,
+         fmt: str | None, keep_inserts: bool, reporter: _Reporter) -> None:
     """Scan new SEQUENCES (FASTA, gzip, '-' for stdin) against the globin family.
 
     Per sequence: is it a globin, its nearest reference, helices present, key residues and heme
@@ -253,9 +256,13 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     from .tables import table_format_for
 
     inputs = [sequences, family_path]
-    for path in (output, residues_path):
+    for path in (output, residues_path, heatmap_path):
         if path is not None:
             check_not_input(path, inputs)
+    if heatmap_path is not None:
+        from .figures import figure_format
+
+        figure_format(heatmap_path)  # fail on a bad extension before the work
     if family_path is not None:
         from .mapping import map_columns
 
@@ -279,11 +286,15 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
             stack.enter_context(progress)
             task = progress.add_task("scanning", total=None)
         first = True
-        for summary, residues in iter_scan(records, family, residues=res is not None, jobs=jobs,
+        kept = []
+        want_residues = res is not None or heatmap_path is not None
+        for summary, residues in iter_scan(records, family, residues=want_residues, jobs=jobs,
                                            batch_size=batch_size, shuffles=shuffles):
             out.write(_delimited_rows(summary, summary_format, header=first))
             if res is not None:
                 res.write(_delimited_rows(residues, residue_format, header=first))
+            if heatmap_path is not None:
+                kept.append(residues)
             first = False
             counts["sequences"] += len(summary)
             counts["globins"] += int((summary["is_globin"] == "yes").sum())
@@ -295,7 +306,11 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     reporter.info(f"scanned {counts['sequences']} sequences: {counts['globins']} globins, {counts['departing']} "
                   f"with departures from the family's invariant or conservative columns ({jobs} worker"
                   f"{'s' if jobs > 1 else ''})")
-    written = [p for p in (output, residues_path) if p not in (None, "-")]
+    if heatmap_path is not None and kept:
+        from .figures import draw_departure_heatmap, save_figure
+
+        save_figure(draw_departure_heatmap(pd.concat(kept, ignore_index=True)), heatmap_path, inputs)
+    written = [p for p in (output, residues_path, heatmap_path) if p not in (None, "-")]
     if written:
         reporter.info("wrote " + ", ".join(written))
 
