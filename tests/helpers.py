@@ -19,3 +19,19 @@ def write_fasta(path, rows: list[str], ids: list[str] | None = None) -> str:
     ids = ids or [f"r{i + 1}" for i in range(len(rows))]
     path.write_text("".join(f">{i}\n{r}\n" for i, r in zip(ids, rows)))
     return str(path)
+
+
+def planted_family(sequence: str, n_kept: int, seed: int, rows: int = 40) -> tuple[Alignment, np.ndarray]:
+    """A synthetic family from ``sequence``: ``n_kept`` columns (seeded choice) stay as in it (invariant by
+    construction); every other column is randomised in about half the rows. Returns (alignment, kept columns)."""
+    rng = np.random.default_rng(seed)
+    keep = np.sort(rng.choice(len(sequence), n_kept, replace=False))
+    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
+    texts = []
+    for _ in range(rows):
+        row = np.array(list(sequence))
+        change = rng.random(row.size) < 0.5
+        change[keep] = False
+        row[change] = rng.choice(letters, change.sum())
+        texts.append("".join(row))
+    return alignment_of(*texts, ids=[f"f{i}" for i in range(rows)]), keep

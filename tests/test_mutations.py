@@ -8,13 +8,13 @@ proximal His, myoglobin His64 = E7 the distal His) are nomenclature from memory,
 import numpy as np
 import pytest
 
-from globcons.alignment import Alignment
-from globcons.alphabet import BYTE_TO_CODE
 from globcons.cli import main
 from globcons.errors import OptionError
 from globcons.family import family_from_alignment
 from globcons.frame import reference_chain
 from globcons.mutations import CAUTION, check, prepare_target, rank_sites
+
+from helpers import planted_family
 
 BETA = reference_chain("human_hemoglobin_beta")
 ALPHA = reference_chain("human_hemoglobin_alpha")
@@ -88,26 +88,8 @@ def test_pro_inside_a_helix_is_guarded_at_least():
     assert result["verdict"] == "guarded" and "Pro inside helix" in result["reasons"]
 
 
-def planted_family():
-    """40 synthetic rows from sperm whale myoglobin (seeded): 10 columns kept invariant, the rest half random."""
-    rng = np.random.default_rng(11)
-    sequence = MB.mature_sequence
-    keep = np.sort(rng.choice(len(sequence), 10, replace=False))
-    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
-    rows = []
-    for _ in range(40):
-        row = np.array(list(sequence))
-        change = rng.random(row.size) < 0.5
-        change[keep] = False
-        row[change] = rng.choice(letters, change.sum())
-        rows.append("".join(row))
-    raw = np.frombuffer("".join(rows).encode(), dtype=np.uint8)
-    alignment = Alignment(ids=tuple(f"f{i}" for i in range(40)), codes=BYTE_TO_CODE[raw].reshape(40, -1).copy())
-    return alignment, keep
-
-
 def test_plan_never_ranks_invariant_columns_above_variable_ones():
-    alignment, keep = planted_family()
+    alignment, keep = planted_family(MB.mature_sequence, 10, seed=11)
     family = family_from_alignment(alignment)
     target = prepare_target(MB.mature_sequence, "mb", family=family, row_columns=np.arange(len(MB.mature_sequence)))
     plan = rank_sites(target)

@@ -10,13 +10,12 @@ import gzip
 import numpy as np
 import pytest
 
-from globcons.alignment import Alignment
-from globcons.alphabet import BYTE_TO_CODE
 from globcons.cli import main
 from globcons.frame import reference_chain, reference_chains
 from globcons.io import stream_records
 from globcons.scan import family_from_alignment, scan
 
+from helpers import planted_family
 from test_place import LYSOZYME, UBIQUITIN
 
 MB = reference_chain("sperm_whale_myoglobin").mature_sequence
@@ -85,19 +84,7 @@ def test_bad_records_get_a_row_and_do_not_lose_the_others():
 def test_family_departures_land_on_its_invariant_columns():
     # A synthetic family made from sperm whale myoglobin (seeded): every column is randomised in half
     # the rows except 12 chosen columns, which stay as in myoglobin (invariant by construction).
-    rng = np.random.default_rng(4)
-    keep = np.sort(rng.choice(len(MB), 12, replace=False))
-    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
-    rows = []
-    for _ in range(40):
-        row = np.array(list(MB))
-        change = rng.random(row.size) < 0.5
-        change[keep] = False
-        row[change] = rng.choice(letters, change.sum())
-        rows.append("".join(row))
-    raw = np.frombuffer("".join(rows).encode(), dtype=np.uint8)
-    family_alignment = Alignment(ids=tuple(f"f{i}" for i in range(40)),
-                                 codes=BYTE_TO_CODE[raw].reshape(40, len(MB)).copy())
+    family_alignment, keep = planted_family(MB, 12, seed=4)
     family = family_from_alignment(family_alignment)
     invariant = np.flatnonzero(family.classes == "invariant")
     assert set(keep) <= set(invariant)
