@@ -319,7 +319,6 @@ def test_planted_insertion_and_missing_start():
 
 def test_planted_deletion_and_unaligned_tags():
     consensus, S, gaps = planted_setup()
-    m = consensus.shape[0]
     tag = np.array([18, 19, 19, 18])  # scores -3 everywhere: left out at no cost
     query = np.concatenate([tag, consensus[:12], consensus[16:33], tag[:2]]).astype(np.uint8)
     expected = np.concatenate([[-1] * 4, np.arange(0, 12), np.arange(16, 33), [-1, -1]])

@@ -10,7 +10,6 @@ import pytest
 
 from globcons import read_alignment
 from globcons.alignment import Alignment
-from globcons.alphabet import BYTE_TO_CODE
 from globcons.cli import main
 from globcons.demo import demo_alignment_path
 from globcons.report import write_report
@@ -45,7 +44,7 @@ def test_report_is_self_contained(demo_report):
 
 
 def test_methods_text_follows_the_options(tmp_path):
-    result = write_report(demo_alignment_path(), tmp_path, logos=False)
+    write_report(demo_alignment_path(), tmp_path, logos=False)
     methods = (tmp_path / "methods.md").read_text()
     assert "Henikoff and Henikoff 1994" in methods and "gap fraction above 0.5" in methods
     assert "Capra JA, Singh M (2007)" in methods

@@ -296,7 +296,7 @@ def _numbering_hint(target: Target, mutation: Mutation) -> str:
     shifted = mutation.position + (1 if other == "mature" else -1)
     if 1 <= shifted <= len(target.sequence) and target.sequence[shifted - 1] == mutation.wild:
         return f" (in {other} numbering, without the initiator Met counted, it is: add --numbering {other})" \
-            if other == "mature" else f" (in numbering as given it is: drop --numbering mature)"
+            if other == "mature" else " (in numbering as given it is: drop --numbering mature)"
     return ""
 
 

@@ -29,7 +29,7 @@ import functools
 import zlib
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Iterable, Mapping, Sequence
+from typing import TYPE_CHECKING, Iterable, Mapping, Sequence
 
 import numpy as np
 
@@ -39,6 +39,9 @@ from .dp import align, align_scores
 from .frame import HELICES
 from .profile import Profile, frame_profile
 from .refalign import ReferenceAlignment, reference_alignment
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = ["PlacedSequence", "FrameAlignment", "place", "place_many", "align_to_frame", "GLOBIN_EVALUE", "DEFAULT_SHUFFLES", "EULER_GAMMA"]
 

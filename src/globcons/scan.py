@@ -27,7 +27,6 @@ from __future__ import annotations
 
 import os
 from concurrent.futures import ProcessPoolExecutor
-from dataclasses import dataclass
 from typing import Iterable, Iterator
 
 import numpy as np

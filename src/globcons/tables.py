@@ -8,7 +8,6 @@ interrupted run never leaves a half-written file. Standard output, pipes and spe
 from __future__ import annotations
 
 import contextlib
-import io
 import json
 import math
 import os
