@@ -101,8 +101,10 @@ def test_same_input_same_table():
 
 
 def test_packaged_demo_equals_data_examples():
-    packaged = demo_alignment_path().read_bytes()
-    assert packaged == (ROOT / "data_examples" / "demo_family.fasta").read_bytes()
+    from globcons.demo import demo_file
+
+    for name in ("demo_family.fasta", "demo_queries.fasta", "demo_target.fasta", "demo_mutations.txt"):
+        assert demo_file(name).read_bytes() == (ROOT / "data_examples" / name).read_bytes(), name
 
 
 def test_demo_family_shows_every_class_and_keeps_the_fixed_sites():
