@@ -129,6 +129,21 @@ def _warn_low_data(table, reporter: _Reporter) -> None:
                       "effective sequences (flagged low_data): their classes rest on little evidence")
 
 
+def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_inserts: bool,
+                  chunk_rows: int | None, reporter: _Reporter) -> pd.DataFrame:
+    """The column table, read in memory or streamed (see :func:`globcons.streaming.plan_reading`)."""
+    from .columns import table_from_summary
+    from .streaming import plan_reading, summarise_file
+
+    plan = plan_reading(alignment, options.weights, keep_inserts, chunk_rows, fmt)
+    if plan.note:
+        reporter.info(plan.note)
+    if plan.stream:
+        summary = summarise_file(alignment, options, plan.chunk_rows, fmt, keep_inserts)
+        return table_from_summary(summary, options)
+    return score_columns(read_alignment(alignment, format=fmt, keep_inserts=keep_inserts), options)
+
+
 @cli.command()
 @_alignment_argument
 @click.option("-o", "--output", default=None, help="Output file (default: standard output; '-' too).")
@@ -140,11 +155,15 @@ def _warn_low_data(table, reporter: _Reporter) -> None:
               help="A site table of your own (tab-separated: label or column, role[, kind, chains, note]).")
 @click.option("--replace-sites", is_flag=True, help="Use only the sites of --sites, not the built-in ones.")
 @click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame (other families).")
+@click.option("--chunk-rows", type=int, default=None, metavar="N",
+              help="Stream the alignment (FASTA/A2M) in two passes, N records per chunk: memory independent of "
+                   "the number of rows, same table. Default: in memory, unless the file needs more memory "
+                   "(about 4x its size) than is available.")
 @_reader_options
 @_scoring_options
 @_common
 def columns(alignment: str, output: str | None, table_format: str | None, fmt: str | None, keep_inserts: bool,
-            reporter: _Reporter, **kw) -> None:
+            chunk_rows: int | None, reporter: _Reporter, **kw) -> None:
     """Score and class every column of ALIGNMENT ('-' reads standard input).
 
     One row per column: class (invariant, conservative, variable, gap-rich), entropy, JSD, gap
@@ -153,8 +172,7 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
     options = _score_options(kw)
     if output is not None:
         check_not_input(output, [alignment, kw.get("sites_path")])
-    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
-    table = score_columns(aligned, options)
+    table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter)
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
                           caption=f"Column conservation of {os.path.basename(str(alignment))}")
     reporter.info(summarise(table))

@@ -4,23 +4,25 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Callable, Iterable, Iterator, Mapping, Sequence
 
 import numpy as np
 import pandas as pd
 
 from ._version import __version__
 from .alignment import Alignment
-from .alphabet import N_RESIDUES, UNKNOWN
+from .alphabet import N_CODES, N_RESIDUES, UNKNOWN
 from .classes import CLASSES, ClassRules, classify
-from .counts import column_counts
+from .counts import CHUNK_ROWS, block_counts, column_counts
 from .errors import OptionError
 from .frame import sites as site_table
-from .mapping import ColumnMapping, column_sites, map_columns
+from .mapping import ANCHOR_CANDIDATES, ColumnMapping, column_sites, map_columns
 from .scores import (PROPERTY_CLASSES, consensus, entropy_bits, gap_fraction, jsd_scores, property_entropy,
                      residue_frequencies, residue_strings, smooth_window)
-from .weights import Weights, compute_weights
+from .weights import HenikoffSums, compute_weights, hash_powers, henikoff_raw, henikoff_table, row_hashes
 
-__all__ = ["ScoreOptions", "score_columns", "summarise", "COLUMN_ORDER"]
+__all__ = ["ScoreOptions", "score_columns", "summarise", "COLUMN_ORDER", "ColumnSummary", "TopRows", "count_blocks",
+           "matrix_blocks", "rows_alignment", "summarise_alignment", "table_from_summary"]
 
 #: Order of the table's columns (``ref_position`` and ``ref_residue`` follow ``column`` with a reference).
 COLUMN_ORDER = ("column", "frame_label", "sites", "class", "low_data", "consensus", "residues", "entropy_bits", "entropy_norm",
@@ -66,6 +68,158 @@ class ScoreOptions:
             raise OptionError(f"--window must not be negative, got {self.window}")
 
 
+@dataclass(frozen=True)
+class ColumnSummary:
+    """What the column table is made from: weighted counts and the alignment's metadata.
+
+    The in-memory path (:func:`score_columns`) and the streaming path (:mod:`globcons.streaming`) both
+    build one and hand it to :func:`table_from_summary`, so everything after the counts is shared.
+
+    Attributes
+    ----------
+    counts
+        ``float64``, shape (L, N_CODES): weighted count of every code in every column.
+    n_eff
+        Effective number of sequences (sum of the weights).
+    n_rows, n_columns
+        N and L of the whole alignment.
+    rows
+        An :class:`~globcons.alignment.Alignment` of the anchor candidates (the rows with the most
+        residues, in file order) and the ``--reference`` row, with the source, format and column
+        annotations of the whole alignment.
+    notes
+        The reader's notes.
+    """
+
+    counts: np.ndarray
+    n_eff: float
+    n_rows: int
+    n_columns: int
+    rows: Alignment
+    notes: Mapping[str, object]
+
+
+class TopRows:
+    """The rows with the most residues seen so far (ties go to the earlier row), with their codes."""
+
+    def __init__(self, n_columns: int | None = None, limit: int = ANCHOR_CANDIDATES) -> None:
+        self.limit = limit
+        self.residues = np.empty(0, dtype=np.int64)
+        self.index = np.empty(0, dtype=np.int64)
+        self.codes = np.empty((0, n_columns or 0), dtype=np.uint8)
+
+    def offer(self, block: np.ndarray, first_row: int) -> None:
+        """Consider the rows of ``block``, whose first row is row ``first_row`` of the alignment."""
+        if self.codes.shape[1] != block.shape[1] and not self.index.size:
+            self.codes = np.empty((0, block.shape[1]), dtype=np.uint8)  # width known from the first block
+        residues = (block < N_RESIDUES).sum(axis=1)
+        best = np.argsort(-residues, kind="stable")[:self.limit]
+        residues = np.concatenate((self.residues, residues[best]))
+        index = np.concatenate((self.index, first_row + best))
+        codes = np.concatenate((self.codes, block[best]))
+        keep = np.lexsort((index, -residues))[:self.limit]
+        self.residues, self.index, self.codes = residues[keep], index[keep], codes[keep]
+
+
+def count_blocks(blocks: Callable[[], Iterable[np.ndarray]], n_columns: int | None, scheme: str,
+                 top: TopRows | None = None) -> tuple[np.ndarray, float]:
+    """Weighted column counts from blocks of rows, in one pass (``none``) or two (``henikoff``).
+
+    Parameters
+    ----------
+    blocks
+        Called once per pass; yields the alignment's rows in order, in blocks of
+        :data:`~globcons.counts.CHUNK_ROWS` rows (the last may be shorter). The same blocks in every
+        mode make the sums, and so the table, bit-identical.
+    n_columns
+        L (None: the width of the first block; a stream learns it there).
+    scheme
+        ``"henikoff"`` or ``"none"``.
+    top
+        Filled with the anchor candidates during the first pass, if given.
+
+    Returns
+    -------
+    counts, n_eff
+        Shape (L, N_CODES), and the sum of the weights.
+    """
+    plain: np.ndarray | None = None
+    hashes: list[np.ndarray] = []
+    n_rows = 0
+    for block in blocks():
+        if plain is None:
+            n_columns = block.shape[1] if n_columns is None else n_columns
+            plain, powers = np.zeros(n_columns * N_CODES), hash_powers(n_columns)
+        plain += block_counts(block)
+        if top is not None:
+            top.offer(block, n_rows)
+        if scheme == "henikoff":
+            hashes.append(row_hashes(block, powers))
+        n_rows += block.shape[0]
+    if plain is None:
+        n_columns = n_columns or 0
+        plain = np.zeros(n_columns * N_CODES)
+    size = n_columns * N_CODES
+    if scheme == "none":
+        return plain.reshape(n_columns, N_CODES), float(n_rows)
+    if scheme != "henikoff":
+        raise OptionError(f"weights {scheme!r} cannot be computed from blocks of rows")
+    distinct = int(np.unique(np.concatenate(hashes)).size) if hashes else 0
+    del hashes
+    flat_table = henikoff_table(plain.reshape(n_columns, N_CODES))
+    weighted, empty_counts = np.zeros(size), np.zeros(size)
+    sums = HenikoffSums()
+    for block in blocks():
+        raw, empty = henikoff_raw(block, flat_table)
+        sums.add(raw, empty)
+        weighted += block_counts(block, raw)
+        if empty.any():
+            empty_counts += block_counts(block[empty])
+    # Rows without residues weigh the mean raw weight, known only now: their counts were kept apart.
+    scale = sums.scale(distinct) if n_rows else 0.0
+    counts = (weighted + sums.mean_raw * empty_counts) * scale
+    n_eff = (sums.raw_sum + sums.n_empty * sums.mean_raw) * scale
+    return counts.reshape(n_columns, N_CODES), float(n_eff)
+
+
+def matrix_blocks(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> Callable[[], Iterator[np.ndarray]]:
+    """The ``blocks`` argument of :func:`count_blocks` for a code matrix in memory."""
+    return lambda: (codes[start:start + chunk_rows] for start in range(0, codes.shape[0], chunk_rows))
+
+
+def rows_alignment(alignment_ids: Sequence[str], index: np.ndarray, codes: np.ndarray, source: str, fmt: str,
+                   annotations: Mapping[str, str] | None = None) -> Alignment:
+    """The small alignment of :attr:`ColumnSummary.rows`: the given rows, sorted by their place in the file."""
+    order = np.argsort(index, kind="stable")
+    index, codes = index[order], codes[order]
+    unique = np.r_[True, index[1:] != index[:-1]] if index.size else np.zeros(0, dtype=bool)
+    index, codes = index[unique], codes[unique]
+    return Alignment(ids=tuple(alignment_ids[int(i)] for i in index), codes=codes, source=source, format=fmt,
+                     column_annotations=dict(annotations or {}))
+
+
+def summarise_alignment(alignment: Alignment, options: ScoreOptions) -> ColumnSummary:
+    """The :class:`ColumnSummary` of an alignment in memory (weights, counts, anchor candidates)."""
+    codes = alignment.codes
+    top = TopRows(alignment.n_columns)
+    if options.weights == "cluster" or options.weights not in ("henikoff", "none"):
+        weights = compute_weights(codes, options.weights, options.identity)
+        counts, n_eff = column_counts(codes, weights.values), weights.n_eff
+        for start in range(0, codes.shape[0], CHUNK_ROWS):
+            top.offer(codes[start:start + CHUNK_ROWS], start)
+    else:
+        counts, n_eff = count_blocks(matrix_blocks(codes), alignment.n_columns, options.weights, top)
+    index, kept = top.index, top.codes
+    if options.reference is not None:
+        if options.reference not in alignment.ids:
+            raise OptionError(f"--reference {options.reference!r} is not an id of {alignment.source}")
+        row = alignment.ids.index(options.reference)
+        index, kept = np.append(index, row), np.concatenate((kept, codes[row:row + 1]))
+    rows = rows_alignment(alignment.ids, index, kept, alignment.source, alignment.format,
+                          alignment.column_annotations)
+    return ColumnSummary(counts, n_eff, alignment.n_rows, alignment.n_columns, rows, dict(alignment.notes))
+
+
 def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **kwargs) -> pd.DataFrame:
     """Score and class every column of an alignment.
 
@@ -92,11 +246,32 @@ def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **k
     True
     """
     options = _options(options, kwargs)
+    user_sites = _user_sites(options)
+    return table_from_summary(summarise_alignment(alignment, options), options, user_sites)
+
+
+def _user_sites(options: ScoreOptions):
     user_sites = site_table(path=options.sites_path) if options.sites_path else None
     if options.replace_sites and user_sites is None:
         raise OptionError("replacing the sites needs a site table (--sites FILE)")
-    weights = compute_weights(alignment.codes, options.weights, options.identity)
-    counts = column_counts(alignment.codes, weights.values)
+    return user_sites
+
+
+def table_from_summary(summary: ColumnSummary, options: ScoreOptions, user_sites=None) -> pd.DataFrame:
+    """The column table from a :class:`ColumnSummary` (scores, classes, frame labels, sites, metadata).
+
+    Parameters
+    ----------
+    summary
+        From :func:`summarise_alignment` or :func:`globcons.streaming.summarise_file`.
+    options
+        The options the summary was made with.
+    user_sites
+        Sites read from ``options.sites_path`` (read here if None and a path is given).
+    """
+    if user_sites is None:
+        user_sites = _user_sites(options)
+    counts, rows = summary.counts, summary.rows
     frequencies = residue_frequencies(counts)
     gaps = gap_fraction(counts)
     n_eff = counts[:, :N_RESIDUES].sum(axis=1)
@@ -104,12 +279,12 @@ def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **k
     entropy = entropy_bits(counts)
     total = counts.sum(axis=1)
     if options.frame:
-        source = alignment.source if Path(alignment.source).is_file() else None
-        mapping = map_columns(alignment, anchor=options.reference, source_path=source)
+        source = rows.source if Path(rows.source).is_file() else None
+        mapping = map_columns(rows, anchor=options.reference, source_path=source)
     else:
-        mapping = ColumnMapping(("",) * alignment.n_columns, "none", note="frame mapping switched off")
+        mapping = ColumnMapping(("",) * summary.n_columns, "none", note="frame mapping switched off")
     table = pd.DataFrame({
-        "column": np.arange(1, alignment.n_columns + 1),
+        "column": np.arange(1, summary.n_columns + 1),
         "frame_label": list(mapping.labels),
         "sites": column_sites(mapping.labels, mapping.nearest_reference, user_sites, options.replace_sites),
         "class": classes.astype(str),
@@ -125,15 +300,15 @@ def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **k
         "n_eff": n_eff,
     })
     if options.reference is not None:
-        if options.reference not in alignment.ids:
-            raise OptionError(f"--reference {options.reference!r} is not an id of {alignment.source}")
-        row = alignment.ids.index(options.reference)
-        positions = alignment.ungapped_positions(row)
-        letters = np.array(list(alignment.row(row)))
+        if options.reference not in rows.ids:
+            raise OptionError(f"--reference {options.reference!r} is not an id of {rows.source}")
+        row = rows.ids.index(options.reference)
+        positions = rows.ungapped_positions(row)
+        letters = np.array(list(rows.row(row)))
         table.insert(1, "ref_position", pd.array(np.where(positions > 0, positions, 0), dtype="Int64"))
         table.loc[positions <= 0, "ref_position"] = pd.NA
         table.insert(2, "ref_residue", np.where(positions > 0, letters, ""))
-    table.attrs.update(_metadata(alignment, options, weights, classes, low_data))
+    table.attrs.update(_metadata(summary, options, classes, low_data))
     table.attrs["frame"] = {"source": mapping.source, "anchor": mapping.anchor,
                             "nearest_reference": mapping.nearest_reference, "note": mapping.note,
                             "evalue": mapping.placement.evalue if mapping.placement else None}
@@ -153,17 +328,17 @@ def _options(options: ScoreOptions | None, kwargs: dict) -> ScoreOptions:
     return ScoreOptions(rules=rules, **kwargs)
 
 
-def _metadata(alignment: Alignment, options: ScoreOptions, weights: Weights, classes: np.ndarray,
+def _metadata(summary: ColumnSummary, options: ScoreOptions, classes: np.ndarray,
               low_data: np.ndarray) -> dict[str, object]:
     counts = {name: int((classes == name).sum()) for name in CLASSES}
     return {
         "tool": "globcons",
         "version": __version__,
-        "input": alignment.source,
-        "format": alignment.format,
-        "sequences": alignment.n_rows,
-        "columns": alignment.n_columns,
-        "effective_sequences": round(weights.n_eff, 6),
+        "input": summary.rows.source,
+        "format": summary.rows.format,
+        "sequences": summary.n_rows,
+        "columns": summary.n_columns,
+        "effective_sequences": round(summary.n_eff, 6),
         "weights": options.weights,
         "identity": options.identity if options.weights == "cluster" else None,
         "window": options.window,
@@ -173,7 +348,7 @@ def _metadata(alignment: Alignment, options: ScoreOptions, weights: Weights, cla
         "grouping": options.rules.grouping,
         "class_counts": counts,
         "low_data_columns": int(low_data.sum()),
-        "reader_notes": dict(alignment.notes),
+        "reader_notes": dict(summary.notes),
     }
 
 

@@ -64,7 +64,8 @@ def read_input_bytes(source: PathLike | BinaryIO) -> tuple[bytes, str]:
     Returns
     -------
     data, name
-        The bytes, and the name to use in messages.
+        The bytes (a ``bytearray`` owned by the caller when read from a plain file), and the name to use
+        in messages.
 
     Raises
     ------
@@ -82,7 +83,7 @@ def read_input_bytes(source: PathLike | BinaryIO) -> tuple[bytes, str]:
         name = str(source)
         path = Path(source)
         try:
-            raw = path.read_bytes()
+            raw = _read_owned(path)
         except FileNotFoundError:
             raise InputError("no such file", source=name) from None
         except IsADirectoryError:
@@ -100,8 +101,28 @@ def read_input_bytes(source: PathLike | BinaryIO) -> tuple[bytes, str]:
             detail = "truncated" if isinstance(exc, EOFError) else "corrupt"
             raise InputError(f"gzip data is {detail}; the file may be an incomplete download", source=name) from None
     if raw.startswith(_BOM):
-        raw = raw[len(_BOM):]
+        if isinstance(raw, bytearray):
+            del raw[:len(_BOM)]  # in place: no second copy of a large file
+        else:
+            raw = raw[len(_BOM):]
     return raw, name
+
+
+def _read_owned(path: Path) -> bytes | bytearray:
+    """A file's bytes in a buffer of its own (a ``bytearray``), so a reader may encode it in place.
+
+    Gzip data is returned as read (it is decompressed into a new buffer anyway).
+    """
+    with open(path, "rb") as stream:
+        size = os.fstat(stream.fileno()).st_size
+        buffer = bytearray(size)
+        filled = stream.readinto(buffer)
+        rest = stream.read()  # a file that grew while being read (or a size the system does not report)
+    if filled < size:
+        del buffer[filled:]
+    if rest:
+        buffer += rest
+    return buffer
 
 
 def _text_problem(data: bytes) -> str | None:
@@ -126,12 +147,15 @@ def sniff_format(data: bytes, name: str = "<input>") -> str:
     InputError
         Empty, binary or HTML input, or no recognisable format.
     """
-    if not data.strip():
+    if _is_blank(data):
         raise InputError("file is empty", source=name)
     problem = _text_problem(data)
     if problem:
         raise InputError(problem, source=name)
-    for number, line in enumerate(data.splitlines()[:50], start=1):
+    # Only the first lines decide; splitting the whole file would copy it line by line.
+    head = data[:1 << 20]
+    lines = head.splitlines()[:50] if not head.isspace() else data.splitlines()[:50]
+    for number, line in enumerate(lines, start=1):
         text = line.strip()
         if not text:
             continue
@@ -206,6 +230,23 @@ def _check_protein(codes: np.ndarray, name: str) -> None:
         )
 
 
+def _stops_to_unknown(codes: np.ndarray, chunk_rows: int = 16384) -> int:
+    """Turn internal stops into unknowns in place, in row blocks (no whole-matrix mask); return their count."""
+    count = 0
+    for start in range(0, codes.shape[0], chunk_rows):
+        block = codes[start:start + chunk_rows]
+        stops = block == STOP
+        if stops.any():
+            count += int(stops.sum())
+            block[stops] = UNKNOWN
+    return count
+
+
+def _is_blank(data: bytes) -> bool:
+    """True if ``data`` holds only whitespace (without the whole-file copy ``data.strip()`` makes)."""
+    return not data or data.isspace()
+
+
 def _finish(ids: list[str], descriptions: list[str], codes: np.ndarray, name: str, fmt: str,
             annotations: dict[str, str] | None = None, notes: dict | None = None) -> Alignment:
     """Rules shared by every format; ``codes`` must hold only alphabet codes and STOP."""
@@ -214,10 +255,8 @@ def _finish(ids: list[str], descriptions: list[str], codes: np.ndarray, name: st
     if codes.shape[1] == 0:
         raise InputError("the sequences are empty (no columns)", source=name)
     notes = dict(notes or {})
-    stops = codes == STOP
-    if stops.any():
-        count = int(stops.sum())
-        codes[stops] = UNKNOWN
+    count = _stops_to_unknown(codes)
+    if count:
         notes["internal_stops"] = count
         warnings.warn(f"{name}: {count} internal stop(s) '*' counted as unknown residues", InputWarning, stacklevel=3)
     _check_protein(codes, name)
@@ -240,36 +279,51 @@ def _bad_character(data: bytes, newlines: np.ndarray, offset: int, name: str, wh
 # --------------------------------------------------------------------------------------------------
 # FASTA and A2M: the bulk byte path
 
+#: Bytes per slice of the FASTA byte path. Slices end at line ends, and no whole-file mask is built, so
+#: the temporary memory is a few times this whatever the size of the file.
+SLICE_BYTES = 1 << 23
 
-class _FastaBytes(NamedTuple):
-    """A FASTA file split into headers and sequence bytes with whole-buffer array operations."""
 
-    buf: np.ndarray  # the file's bytes, uint8
-    headers: list[bytes]
-    header_offsets: np.ndarray  # byte offset of each record's '>'
-    sequence_byte: np.ndarray  # bool per byte: part of a sequence (not header, newline or CR)
+class _FastaLayout(NamedTuple):
+    """Where the lines and records of a FASTA buffer are (position arrays, one entry per line or record)."""
+
+    data: bytes
+    buf: np.ndarray  # the file's bytes, uint8 (a view of ``data``)
     newlines: np.ndarray  # byte offsets of '\n'
-    lengths: np.ndarray  # sequence bytes per record, before any are removed
-
-    def record_lengths(self, removed: np.ndarray | None = None) -> np.ndarray:
-        """Sequence bytes per record, less the bytes flagged in ``removed`` (a bool per byte, sparse)."""
-        if removed is None or not removed.any():
-            return self.lengths
-        record = np.searchsorted(self.header_offsets, np.flatnonzero(removed), side="right") - 1
-        return self.lengths - np.bincount(record, minlength=self.lengths.size)
+    header_offsets: np.ndarray  # byte offset of each record's '>'
+    header_ends: np.ndarray  # byte offset of the '\n' ending each header line (or the size)
+    slices: list[tuple[int, int]]  # (start, stop) of each slice, at line boundaries
 
     def line_of(self, offset: int) -> int:
         return _line_number(self.newlines, offset)
 
-    def offset_of(self, mask: np.ndarray, index: int) -> int:
-        """Byte offset of the ``index``-th True byte of ``mask`` (error paths only)."""
-        return int(np.flatnonzero(mask)[index])
+    def record_of(self, offsets: np.ndarray) -> np.ndarray:
+        """Record index of each byte offset (offsets after the first header)."""
+        return np.searchsorted(self.header_offsets, offsets, side="right") - 1
 
 
-def _split_fasta(data: bytes, name: str) -> _FastaBytes:
+def _positions(buf: np.ndarray, value: int, slice_bytes: int = SLICE_BYTES) -> np.ndarray:
+    """Offsets of every byte equal to ``value``, found slice by slice (no whole-file mask)."""
+    found = [np.flatnonzero(buf[start:start + slice_bytes] == value) + start
+             for start in range(0, buf.size, slice_bytes)]
+    return np.concatenate(found) if found else np.empty(0, dtype=np.int64)
+
+
+def _slice_bounds(newlines: np.ndarray, size: int, slice_bytes: int) -> list[tuple[int, int]]:
+    """Slices of about ``slice_bytes`` that end just after a newline, so that no line straddles two."""
+    if newlines.size == 0 or size <= slice_bytes:
+        return [(0, size)]
+    index = np.searchsorted(newlines, np.arange(slice_bytes, size, slice_bytes))
+    ends = np.where(index < newlines.size, newlines[np.minimum(index, newlines.size - 1)] + 1, size)
+    ends = np.unique(np.append(ends, size))
+    starts = np.concatenate(([0], ends[:-1]))
+    return list(zip(starts.tolist(), ends.tolist()))
+
+
+def _layout(data: bytes, name: str, slice_bytes: int = SLICE_BYTES) -> _FastaLayout:
     buf = np.frombuffer(data, dtype=np.uint8)
     size = buf.size
-    newlines = np.flatnonzero(buf == 10)
+    newlines = _positions(buf, 10, slice_bytes)
     line_starts = np.concatenate(([0], newlines + 1))
     line_ends = np.concatenate((newlines, [size]))
     valid = line_starts < size
@@ -278,112 +332,169 @@ def _split_fasta(data: bytes, name: str) -> _FastaBytes:
     header_starts, header_ends = line_starts[is_header], line_ends[is_header]
     if header_starts.size == 0:
         raise InputError("no FASTA header line ('>') found", source=name, line=1)
-    # +1 at a header's '>', -1 at its newline: the running sum is 1 inside headers.
-    marks = np.zeros(size + 1, dtype=np.int8)
-    marks[header_starts] = 1
-    marks[header_ends] = -1
-    in_header = np.cumsum(marks[:size], dtype=np.int8).view(bool)
-    del marks
-    sequence_byte = ~in_header
-    sequence_byte &= buf != 10
-    sequence_byte &= buf != 13
     first = int(header_starts[0])
-    if first and sequence_byte[:first].any():
-        stray = buf[:first][sequence_byte[:first]]
-        if not np.isin(stray, (9, 32)).all():
-            offset = int(np.flatnonzero(sequence_byte[:first] & ~np.isin(buf[:first], (9, 32)))[0])
+    if first:
+        head = buf[:first]
+        stray = np.flatnonzero(~np.isin(head, (9, 10, 13, 32)))
+        if stray.size:
             raise InputError("sequence data before the first '>' header", source=name,
-                             line=_line_number(newlines, offset))
-        sequence_byte[:first] = False
-    # Header text without '>' and CR, in one bulk split on the newlines kept as separators.
-    header_mask = in_header
-    header_mask[header_starts] = False
-    header_mask &= buf != 13
-    header_mask[header_ends[header_ends < size]] = True
-    joined = buf[header_mask].tobytes()
-    if header_ends[-1] >= size:
+                             line=_line_number(newlines, int(stray[0])))
+    return _FastaLayout(data, buf, newlines, header_starts, header_ends, _slice_bounds(newlines, size, slice_bytes))
+
+
+def _header_mask(layout: _FastaLayout, start: int, stop: int) -> np.ndarray:
+    """Bool per byte of the slice ``[start, stop)``: True from a header's '>' up to (not including) its newline."""
+    lo, hi = np.searchsorted(layout.header_offsets, (start, stop))
+    local_starts = layout.header_offsets[lo:hi] - start
+    local_ends = layout.header_ends[lo:hi] - start  # a slice ends after a newline: headers never straddle
+    marks = np.zeros(stop - start + 1, dtype=np.int8)
+    marks[local_starts] = 1
+    marks[local_ends] = -1  # +1 at '>', -1 at its newline: the running sum is 1 inside headers
+    return np.cumsum(marks[:-1], dtype=np.int8).view(bool)
+
+
+def _headers(layout: _FastaLayout) -> list[bytes]:
+    """Header text without '>' and CR, in one bulk split on the newlines kept as separators."""
+    buf, pieces = layout.buf, []
+    for start, stop in layout.slices:
+        block = buf[start:stop]
+        keep = _header_mask(layout, start, stop)
+        lo, hi = np.searchsorted(layout.header_offsets, (start, stop))
+        keep[layout.header_offsets[lo:hi] - start] = False
+        keep &= block != 13
+        ends = layout.header_ends[lo:hi] - start
+        keep[ends[ends < block.size]] = True
+        pieces.append(block[keep].tobytes())
+    joined = b"".join(pieces)
+    if layout.header_ends[-1] >= buf.size:
         joined += b"\n"
-    headers = joined.split(b"\n")[:-1]
-    # Sequence bytes per record = bytes after its header line and before the next '>', less the
-    # newlines and CRs among them: counted on the (short) position arrays, not byte by byte.
-    region_start = np.minimum(header_ends + 1, size)
-    region_end = np.concatenate((header_starts[1:], [size]))
-    returns = np.flatnonzero(buf == 13)
-
-    def inside(positions: np.ndarray) -> np.ndarray:
-        return np.searchsorted(positions, region_end) - np.searchsorted(positions, region_start)
-
-    lengths = (region_end - region_start) - inside(newlines) - inside(returns)
-    return _FastaBytes(buf, headers, header_starts, sequence_byte, newlines, lengths.astype(np.int64))
+    return joined.split(b"\n")[:-1]
 
 
-def _parse_headers(parts: _FastaBytes, name: str) -> tuple[list[str], list[str]]:
+def _parse_headers(layout: _FastaLayout, headers: list[bytes], name: str) -> tuple[list[str], list[str]]:
     ids, descriptions = [], []
-    for index, raw in enumerate(parts.headers):
+    for index, raw in enumerate(headers):
         text = raw.decode("utf-8", errors="replace").strip()
         if not text:
             raise InputError("header line has no sequence id", source=name,
-                             line=parts.line_of(int(parts.header_offsets[index])))
+                             line=layout.line_of(int(layout.header_offsets[index])))
         fields = text.split(None, 1)
         ids.append(fields[0])
         descriptions.append(fields[1] if len(fields) > 1 else "")
     return ids, descriptions
 
 
-def _drop_trailing_blanks(parts: _FastaBytes, name: str) -> _FastaBytes:
-    """Blanks may end a line, never sit inside one; the allowed ones leave the sequence mask."""
-    buf, mask = parts.buf, parts.sequence_byte
-    blank = mask & ((buf == 32) | (buf == 9))
-    if not blank.any():
-        return parts
-    offsets = np.flatnonzero(mask)
-    is_blank = blank[offsets]
-    line = np.searchsorted(parts.newlines, offsets, side="right")
-    inner = is_blank[:-1] & ~is_blank[1:] & (line[:-1] == line[1:])
-    if inner.any():
-        raise _bad_character(parts.buf.tobytes(), parts.newlines, int(offsets[:-1][inner][0]), name,
-                             "(a blank) inside a sequence line; alignments use '-' for gaps")
-    lengths = parts.record_lengths(blank)
-    mask &= ~blank
-    return parts._replace(lengths=lengths)
+def _sequence_lengths(layout: _FastaLayout) -> np.ndarray:
+    """Sequence bytes per record: bytes after its header line and before the next '>', less the newlines and
+    CRs among them (counted on the short position arrays, not byte by byte)."""
+    size = layout.buf.size
+    region_start = np.minimum(layout.header_ends + 1, size)
+    region_end = np.concatenate((layout.header_offsets[1:], [size]))
+    returns = _positions(layout.buf, 13)
+
+    def inside(positions: np.ndarray) -> np.ndarray:
+        return np.searchsorted(positions, region_end) - np.searchsorted(positions, region_start)
+
+    return ((region_end - region_start) - inside(layout.newlines) - inside(returns)).astype(np.int64)
 
 
-def _parse_fasta(data: bytes, name: str, a2m: bool, keep_inserts: bool) -> Alignment:
-    parts = _split_fasta(data, name)
-    ids, descriptions = _parse_headers(parts, name)
-    parts = _drop_trailing_blanks(parts, name)
-    buf, mask = parts.buf, parts.sequence_byte
-    notes: dict[str, object] = {}
-    if a2m:
-        lower = (buf >= ord("a")) & (buf <= ord("z"))
-        insert = mask & (lower | (buf == ord(".")))
-        if keep_inserts:
-            raw = buf[mask]
-            codes = _encode_checked(raw, parts, mask, name)
-            codes[raw == ord(".")] = GAP
-            lengths = parts.record_lengths()
-            matrix = _a2m_padded(codes, insert[mask], lengths, ids, parts, name)
-            return _finish(ids, descriptions, matrix, name, "a2m", notes={"inserts_kept": True})
-        notes["inserts_dropped"] = int((insert & lower).sum())
-        _encode_checked(buf[insert], parts, insert, name)  # report bad letters even where they would be dropped
-        lengths = parts.record_lengths(insert)
-        mask &= ~insert
-    else:
-        lengths = parts.record_lengths()
-    codes = _encode_checked(buf[mask], parts, mask, name)
-    codes, lengths = _drop_final_stops(codes, lengths)
-    matrix = _to_matrix(codes, lengths, ids, parts, name)
-    return _finish(ids, descriptions, matrix, name, "a2m" if a2m else "fasta", notes=notes)
+def _bad_at(layout: _FastaLayout, offset: int, name: str, what: str) -> InputError:
+    return _bad_character(layout.data, layout.newlines, offset, name, what)
 
 
-def _encode_checked(raw: np.ndarray, parts: _FastaBytes, mask: np.ndarray, name: str) -> np.ndarray:
-    codes = BYTE_TO_CODE[raw]
+def _fasta_codes(layout: _FastaLayout, name: str, a2m: bool, keep_inserts: bool, consume: bool = False
+                 ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, int]:
+    """Encode the sequence bytes slice by slice into one preallocated array.
+
+    With ``consume`` (the buffer is the caller's to overwrite), the codes are written over the file's own
+    bytes: codes never outrun the bytes they come from (each slice yields at most its own length, written
+    after it is read), so the code matrix costs no memory beyond the file.
+
+    Returns the codes (records one after the other), sequence bytes per record, the insert flag of each
+    code (A2M with kept inserts, else None) and the number of lower-case inserts dropped.
+    """
+    buf, first = layout.buf, int(layout.header_offsets[0])
+    lengths = _sequence_lengths(layout)
+    removed = np.zeros(lengths.size, dtype=np.int64)
+    writable = consume and buf.flags.writeable
+    out = buf if writable else np.empty(int(lengths.sum()), dtype=np.uint8)
+    insert_flags: list[np.ndarray] = []
+    position, dropped = 0, 0
+
+    def count_removed(mask: np.ndarray, start: int) -> None:
+        records = layout.record_of(np.flatnonzero(mask) + start)
+        removed[:] += np.bincount(records, minlength=removed.size)
+
+    for start, stop in layout.slices:
+        block = buf[start:stop]
+        sequence = ~_header_mask(layout, start, stop)
+        sequence &= block != 10
+        sequence &= block != 13
+        if start < first:
+            sequence[:first - start] = False
+        # Blanks may end a line, never sit inside one; the allowed ones leave the sequence.
+        blank = sequence & ((block == 32) | (block == 9))
+        if blank.any():
+            offsets = np.flatnonzero(sequence)
+            is_blank = blank[offsets]
+            line = np.searchsorted(layout.newlines, offsets + start, side="right")
+            inner = is_blank[:-1] & ~is_blank[1:] & (line[:-1] == line[1:])
+            if inner.any():
+                raise _bad_at(layout, start + int(offsets[:-1][inner][0]), name,
+                              "(a blank) inside a sequence line; alignments use '-' for gaps")
+            count_removed(blank, start)
+            sequence &= ~blank
+        if a2m:
+            lower = (block >= ord("a")) & (block <= ord("z"))
+            insert = sequence & (lower | (block == ord(".")))
+            if keep_inserts:
+                insert_flags.append(insert[sequence])
+            else:
+                dropped += int((insert & lower).sum())
+                _check_codes(block, insert, start, layout, name)  # bad letters count even where dropped
+                count_removed(insert, start)
+                sequence &= ~insert
+        codes = _check_codes(block, sequence, start, layout, name)
+        out[position:position + codes.size] = codes
+        position += codes.size
+    lengths -= removed
+    codes = out[:position]
+    if position < 0.75 * out.size:  # many inserts dropped: do not keep the unused tail alive
+        codes = codes.copy()
+    flags = np.concatenate(insert_flags + [np.zeros(0, dtype=bool)]) if a2m and keep_inserts else None
+    return codes, lengths, flags, dropped
+
+
+def _check_codes(block: np.ndarray, mask: np.ndarray, start: int, layout: _FastaLayout, name: str) -> np.ndarray:
+    codes = BYTE_TO_CODE[block[mask]]
     invalid = codes >= SPACE  # INVALID or a blank that survived (inside a line)
     if invalid.any():
-        offset = parts.offset_of(mask, int(np.argmax(invalid)))
-        raise _bad_character(parts.buf.tobytes(), parts.newlines, offset, name,
-                             "is not an amino-acid letter or a gap ('-', '.', '~')")
+        offset = start + int(np.flatnonzero(mask)[int(np.argmax(invalid))])
+        raise _bad_at(layout, offset, name, "is not an amino-acid letter or a gap ('-', '.', '~')")
     return codes
+
+
+def _parse_fasta_rows(data: bytes | bytearray, name: str, a2m: bool, keep_inserts: bool, width: int | None = None,
+                      slice_bytes: int = SLICE_BYTES, consume: bool = False
+                      ) -> tuple[list[str], list[str], np.ndarray, dict[str, object]]:
+    """Ids, descriptions, code matrix (STOP codes still in it) and reader notes of FASTA or A2M bytes.
+
+    ``width`` forces the row length (a later chunk of a streamed file must match the first); ``consume``
+    lets the codes overwrite a writable ``data`` (see :func:`_fasta_codes`).
+    """
+    layout = _layout(data, name, slice_bytes)
+    ids, descriptions = _parse_headers(layout, _headers(layout), name)
+    codes, lengths, flags, dropped = _fasta_codes(layout, name, a2m, keep_inserts, consume)
+    if keep_inserts and a2m:
+        return ids, descriptions, _a2m_padded(codes, flags, lengths, ids, layout, name), {"inserts_kept": True}
+    notes: dict[str, object] = {"inserts_dropped": dropped} if a2m else {}
+    codes, lengths = _drop_final_stops(codes, lengths)
+    return ids, descriptions, _to_matrix(codes, lengths, ids, layout, name, width), notes
+
+
+def _parse_fasta(data: bytes | bytearray, name: str, a2m: bool, keep_inserts: bool, consume: bool = False) -> Alignment:
+    ids, descriptions, matrix, notes = _parse_fasta_rows(data, name, a2m, keep_inserts, consume=consume)
+    return _finish(ids, descriptions, matrix, name, "a2m" if a2m else "fasta", notes=notes)
 
 
 def _drop_final_stops(codes: np.ndarray, lengths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -397,12 +508,13 @@ def _drop_final_stops(codes: np.ndarray, lengths: np.ndarray) -> tuple[np.ndarra
     return np.delete(codes, ends[final_stop]), lengths - final_stop
 
 
-def _to_matrix(codes: np.ndarray, lengths: np.ndarray, ids: list[str], parts: _FastaBytes,
-               name: str) -> np.ndarray:
+def _to_matrix(codes: np.ndarray, lengths: np.ndarray, ids: list[str], parts: _FastaLayout,
+               name: str, width: int | None = None) -> np.ndarray:
     n_records = len(ids)
-    if (lengths == 0).all():
+    if width is None and (lengths == 0).all():
         raise InputError("no sequence data under the headers", source=name)
-    width = int(np.bincount(lengths).argmax()) or int(lengths.max())
+    if width is None:
+        width = int(np.bincount(lengths).argmax()) or int(lengths.max())
     odd = np.flatnonzero(lengths != width)
     if odd.size:
         row = int(odd[0])
@@ -416,7 +528,7 @@ def _to_matrix(codes: np.ndarray, lengths: np.ndarray, ids: list[str], parts: _F
 
 
 def _a2m_padded(codes: np.ndarray, is_insert: np.ndarray, lengths: np.ndarray, ids: list[str],
-                parts: _FastaBytes, name: str) -> np.ndarray:
+                parts: _FastaLayout, name: str) -> np.ndarray:
     """A2M rows with their insert states as columns; unpadded insert runs are padded to the longest.
 
     Not a hot path (``--keep-inserts`` is an explicit choice), so rows are placed one at a time.
@@ -601,7 +713,7 @@ def _parse_with_biopython(data: bytes, name: str, fmt: str) -> Alignment:
 
 
 def parse_alignment(data: bytes, name: str = "<memory>", format: str | None = None,
-                    keep_inserts: bool = False) -> Alignment:
+                    keep_inserts: bool = False, *, consume: bool = False) -> Alignment:
     """Parse alignment bytes (already un-gzipped) into an :class:`~globcons.alignment.Alignment`.
 
     Parameters
@@ -614,19 +726,22 @@ def parse_alignment(data: bytes, name: str = "<memory>", format: str | None = No
         One of :data:`FORMATS`, or None to sniff from the content.
     keep_inserts
         A2M only: keep insert states (lower case, '.') as columns instead of dropping them.
+    consume
+        ``data`` is a ``bytearray`` the caller gives up: FASTA and A2M codes are written over it, so the
+        code matrix needs no memory beyond the file's (its content is garbage afterwards).
     """
     if format is not None and format not in FORMATS:
         raise OptionError(f"unknown format {format!r}; choose one of {', '.join(FORMATS)}")
     if data.startswith(_BOM):
         data = data[len(_BOM):]
-    if not data.strip():
+    if _is_blank(data):
         raise InputError("file is empty", source=name)
     problem = _text_problem(data)
     if problem:
         raise InputError(problem, source=name)
     fmt = format or _format_from_name(name) or sniff_format(data, name)
     if fmt in ("fasta", "a2m"):
-        return _parse_fasta(data, name, a2m=fmt == "a2m", keep_inserts=keep_inserts)
+        return _parse_fasta(data, name, a2m=fmt == "a2m", keep_inserts=keep_inserts, consume=consume)
     if fmt == "stockholm":
         return _parse_stockholm(data, name)
     return _parse_with_biopython(data, name, fmt)
@@ -663,7 +778,8 @@ def read_alignment(path: PathLike | BinaryIO, format: str | None = None, keep_in
     True
     """
     data, name = read_input_bytes(path)
-    return parse_alignment(data, name, format=format, keep_inserts=keep_inserts)
+    return parse_alignment(data, name, format=format, keep_inserts=keep_inserts,
+                           consume=isinstance(data, bytearray))
 
 
 class SequenceRecord(NamedTuple):

@@ -33,7 +33,7 @@ from .counts import CHUNK_ROWS, column_counts
 from .errors import OptionError
 
 __all__ = ["SCHEMES", "Weights", "compute_weights", "henikoff_weights", "cluster_weights", "distinct_rows",
-           "CLUSTER_MAX_ROWS"]
+           "CLUSTER_MAX_ROWS", "henikoff_table", "henikoff_raw", "HenikoffSums", "hash_powers", "row_hashes"]
 
 SCHEMES = ("henikoff", "none", "cluster")
 
@@ -66,6 +66,61 @@ class Weights:
         return float(self.values.sum())
 
 
+def henikoff_table(counts: np.ndarray) -> np.ndarray:
+    """Flat per-column table of ``1/(r*s)`` from unweighted counts (shape (L, N_CODES)), 0 off residues.
+
+    ``table[j * N_CODES + c]`` is what a row with code ``c`` in column ``j`` receives.
+    """
+    residue_counts = counts[:, :N_RESIDUES]
+    distinct = (residue_counts > 0).sum(axis=1)  # r per column
+    table = np.zeros((counts.shape[0], N_CODES))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        share = 1.0 / (distinct[:, None] * residue_counts)
+    table[:, :N_RESIDUES] = np.where(residue_counts > 0, share, 0.0)
+    return table.ravel()
+
+
+def henikoff_raw(block: np.ndarray, flat_table: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Raw Henikoff weight of each row of a block (mean of its table look-ups over its residues).
+
+    Returns the raw weights (0 for rows without residues) and a bool per row: True if it has none.
+    """
+    offsets = (np.arange(block.shape[1], dtype=np.int64) * N_CODES)[None, :]
+    residues = (block < N_RESIDUES).sum(axis=1)
+    empty = residues == 0
+    with np.errstate(invalid="ignore", divide="ignore"):
+        raw = flat_table[block + offsets].sum(axis=1) / residues
+    raw[empty] = 0.0
+    return raw, empty
+
+
+class HenikoffSums:
+    """Running sums that turn raw weights into the final scale, identical whatever the blocks' source.
+
+    Sums are taken block by block in row order, so a file read in chunks (re-cut into the same blocks of
+    :data:`~globcons.counts.CHUNK_ROWS` rows) gives bit-identical results to a matrix in memory.
+    """
+
+    def __init__(self) -> None:
+        self.raw_sum = 0.0
+        self.n_with = 0
+        self.n_empty = 0
+
+    def add(self, raw: np.ndarray, empty: np.ndarray) -> None:
+        self.raw_sum += float(raw.sum())
+        self.n_empty += int(empty.sum())
+        self.n_with += raw.size - int(empty.sum())
+
+    @property
+    def mean_raw(self) -> float:
+        """Mean raw weight of the rows with residues: the raw weight of a row without any (1 if none has)."""
+        return self.raw_sum / self.n_with if self.n_with else 1.0
+
+    def scale(self, distinct: int) -> float:
+        """Factor taking raw weights to weights that sum to ``distinct``."""
+        return distinct / (self.raw_sum + self.n_empty * self.mean_raw)
+
+
 def henikoff_weights(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> np.ndarray:
     """Position-based weights (Henikoff & Henikoff 1994), scaled as described in the module notes.
 
@@ -76,33 +131,44 @@ def henikoff_weights(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> np.ndar
     ----------
     codes
         ``uint8``, shape (N, L).
+    chunk_rows
+        Rows per block (memory bound only).
 
     Returns
     -------
     numpy.ndarray
         ``float64``, shape (N,).
     """
-    n_rows, n_columns = codes.shape
-    counts = column_counts(codes, chunk_rows=chunk_rows)
-    residue_counts = counts[:, :N_RESIDUES]
-    distinct = (residue_counts > 0).sum(axis=1)  # r per column
-    table = np.zeros((n_columns, N_CODES))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        share = 1.0 / (distinct[:, None] * residue_counts)
-    table[:, :N_RESIDUES] = np.where(residue_counts > 0, share, 0.0)
-    flat_table = table.ravel()
-    offsets = (np.arange(n_columns, dtype=np.int64) * N_CODES)[None, :]
+    n_rows = codes.shape[0]
+    flat_table = henikoff_table(column_counts(codes, chunk_rows=chunk_rows))
     raw = np.empty(n_rows)
+    empty = np.zeros(n_rows, dtype=bool)
+    sums = HenikoffSums()
     for start in range(0, n_rows, chunk_rows):
-        block = codes[start:start + chunk_rows]
-        residues = (block < N_RESIDUES).sum(axis=1)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            raw[start:start + block.shape[0]] = flat_table[block + offsets].sum(axis=1) / residues
+        block_raw, block_empty = henikoff_raw(codes[start:start + chunk_rows], flat_table)
+        sums.add(block_raw, block_empty)
+        raw[start:start + block_raw.size] = block_raw
+        empty[start:start + block_raw.size] = block_empty
     # A row without residues carries no evidence either way: it weighs as an average row, so its gaps
     # still count in the gap fractions.
-    empty = ~np.isfinite(raw)
-    raw[empty] = raw[~empty].mean() if (~empty).any() else 1.0
-    return raw / raw.sum() * distinct_rows(codes)
+    raw[empty] = sums.mean_raw
+    return raw * sums.scale(distinct_rows(codes, chunk_rows))
+
+
+def hash_powers(n_columns: int) -> np.ndarray:
+    """Multipliers of the 64-bit polynomial row hash (see :func:`row_hashes`)."""
+    powers = np.ones(n_columns, dtype=np.uint64)
+    multiplier = np.uint64(0x9E3779B97F4A7C15)
+    with np.errstate(over="ignore"):
+        for index in range(1, n_columns):
+            powers[index] = powers[index - 1] * multiplier
+    return powers
+
+
+def row_hashes(block: np.ndarray, powers: np.ndarray) -> np.ndarray:
+    """64-bit polynomial hash of each row of a block (wrapping arithmetic)."""
+    with np.errstate(over="ignore"):
+        return ((block.astype(np.uint64) + np.uint64(1)) * powers).sum(axis=1, dtype=np.uint64)
 
 
 def distinct_rows(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> int:
@@ -113,15 +179,11 @@ def distinct_rows(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> int:
     n_rows, n_columns = codes.shape
     if n_rows == 0:
         return 0
-    powers = np.ones(n_columns, dtype=np.uint64)
-    multiplier = np.uint64(0x9E3779B97F4A7C15)
-    with np.errstate(over="ignore"):
-        for index in range(1, n_columns):
-            powers[index] = powers[index - 1] * multiplier
-        hashes = np.empty(n_rows, dtype=np.uint64)
-        for start in range(0, n_rows, chunk_rows):
-            block = codes[start:start + chunk_rows].astype(np.uint64) + np.uint64(1)
-            hashes[start:start + block.shape[0]] = (block * powers).sum(axis=1, dtype=np.uint64)
+    powers = hash_powers(n_columns)
+    hashes = np.empty(n_rows, dtype=np.uint64)
+    for start in range(0, n_rows, chunk_rows):
+        block = codes[start:start + chunk_rows]
+        hashes[start:start + block.shape[0]] = row_hashes(block, powers)
     return int(np.unique(hashes).size)
 
 
