@@ -114,6 +114,21 @@ def _scoring_options(command: Callable) -> Callable:
     return command
 
 
+def _frame_options(command: Callable) -> Callable:
+    """How columns are tied to the globin frame and which sites they carry (shared by several commands)."""
+    options = [
+        click.option("--reference", default=None,
+                     help="Add ref_position and ref_residue (the numbering of this row) and tie the frame through it."),
+        click.option("--sites", "sites_path", type=click.Path(dir_okay=False), default=None,
+                     help="A site table of your own (tab-separated: label or column, role[, kind, chains, note])."),
+        click.option("--replace-sites", is_flag=True, help="Use only the sites of --sites, not the built-in ones."),
+        click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame (other families)."),
+    ]
+    for option in reversed(options):
+        command = option(command)
+    return command
+
+
 def _score_options(kw: dict) -> ScoreOptions:
     rules = ClassRules(max_gaps=kw["max_gaps"], invariant_min=kw["invariant_min"], group_min=kw["group_min"],
                        matrix=kw["matrix"], residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
@@ -149,12 +164,7 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
 @click.option("-o", "--output", default=None, help="Output file (default: standard output; '-' too).")
 @click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
               help="Table format (default: from the output's extension, else tsv).")
-@click.option("--reference", default=None,
-              help="Add ref_position and ref_residue (the numbering of this row) and tie the frame through it.")
-@click.option("--sites", "sites_path", type=click.Path(dir_okay=False), default=None,
-              help="A site table of your own (tab-separated: label or column, role[, kind, chains, note]).")
-@click.option("--replace-sites", is_flag=True, help="Use only the sites of --sites, not the built-in ones.")
-@click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame (other families).")
+@_frame_options
 @click.option("--chunk-rows", type=int, default=None, metavar="N",
               help="Stream the alignment (FASTA/A2M) in two passes, N records per chunk: memory independent of "
                    "the number of rows, same table. Default: in memory, unless the file needs more memory "

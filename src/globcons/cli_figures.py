@@ -9,7 +9,8 @@ import os
 
 import click
 
-from .cli import _alignment_argument, _common, _reader_options, _score_options, _scoring_options, cli
+from .cli import (_alignment_argument, _common, _frame_options, _reader_options, _score_options, _scoring_options,
+                  cli)
 from .columns import score_columns
 from .errors import OptionError
 from .figures import FIGURE_FORMATS, PROFILE_SCORES, column_range, draw_logo, draw_profile, figure_format
@@ -28,8 +29,7 @@ _OUTPUT_HELP = f"Figure file; the format follows the extension ({', '.join(FIGUR
               help="Frame labels to draw, both ends included, e.g. F1-FG5 or E7.")
 @click.option("--columns", "column_spec", default=None, metavar="FIRST-LAST",
               help="Alignment columns to draw (1-based, inclusive), e.g. 80-100.")
-@click.option("--reference", default=None, help="Tie the frame through this row (as in `globcons columns`).")
-@click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame (column numbers only).")
+@_frame_options
 @click.option("--title", default=None, help="Figure title (default: the file and the region).")
 @_reader_options
 @_scoring_options
@@ -73,11 +73,7 @@ def logo(alignment: str, output: str, label_range: str | None, column_spec: str 
 @click.option("-o", "--output", required=True, help=_OUTPUT_HELP)
 @click.option("--score", type=click.Choice(tuple(PROFILE_SCORES)), default="entropy_norm", show_default=True,
               help="Score to plot (entropy_norm is drawn as 1 - entropy_norm: up = more conserved).")
-@click.option("--reference", default=None, help="Tie the frame through this row (as in `globcons columns`).")
-@click.option("--sites", "sites_path", type=click.Path(dir_okay=False), default=None,
-              help="A site table of your own (tab-separated: label or column, role[, kind, chains, note]).")
-@click.option("--replace-sites", is_flag=True, help="Use only the sites of --sites, not the built-in ones.")
-@click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame (column numbers only).")
+@_frame_options
 @click.option("--title", default=None, help="Figure title (default: the file and the score).")
 @_reader_options
 @_scoring_options
