@@ -48,3 +48,41 @@ def test_mutation_parser_on_arbitrary_text(text):
             function(text)
         except GlobconsError:
             pass
+
+
+STRUCTURE_PIECES = st.lists(st.sampled_from([
+    "ATOM      1  CA  HIS A  93      11.104   6.134  -6.504  1.00 10.00           C\n",
+    "HETATM    2  O   HOH W   1       0.000   0.000   0.000  1.00  0.00           O\n",
+    "ATOM      3  CA  GLY A  9x      1.0   2.0\n", "data_x\n", "_atom_site.id\n", "loop_\n", "END\n", "\x00",
+    "MODEL 1\n", "ENDMDL\n", "garbage line\n"]), max_size=12)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(STRUCTURE_PIECES)
+def test_structure_reader_on_structure_like_text(tmp_path, pieces):
+    from globcons.structure import chain_residues, read_structure
+
+    path = tmp_path / "fuzz.pdb"
+    path.write_text("".join(pieces), encoding="utf-8")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        try:
+            structure, _ = read_structure(path)
+            for chain in structure[0]:
+                chain_residues(structure, chain.id)
+        except GlobconsError:
+            pass
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.lists(st.sampled_from(["label", "column", "role", "kind", "\t", "\n", "F8", "CE1", "12", "0", "x",
+                                 "#", "all", "human_hemoglobin_alpha", ","]), max_size=20))
+def test_site_table_reader_on_arbitrary_text(tmp_path, pieces):
+    from globcons.frame import sites
+
+    path = tmp_path / "sites.tsv"
+    path.write_text("".join(pieces), encoding="utf-8")
+    try:
+        sites(path=path)
+    except GlobconsError:
+        pass
