@@ -8,6 +8,7 @@ rules to all formats (stops, unknowns, nucleotides, duplicate ids).
 
 from __future__ import annotations
 
+import contextlib
 import gzip
 import io
 import os
@@ -53,6 +54,21 @@ _NUCLEOTIDE_CODES = np.array([STANDARD.index(c) for c in "ACGTN"] + [20], dtype=
 # bytes in
 
 
+@contextlib.contextmanager
+def _opening(name: str) -> Iterator[None]:
+    """Turn the operating system's refusals to open ``name`` into one-line input errors."""
+    try:
+        yield
+    except FileNotFoundError:
+        raise InputError("no such file", source=name) from None
+    except IsADirectoryError:
+        raise InputError("is a folder, not a file", source=name) from None
+    except PermissionError:
+        raise InputError("cannot be read (permission denied)", source=name) from None
+    except OSError as exc:
+        raise InputError(f"cannot be read ({exc.strerror or exc})", source=name) from None
+
+
 def read_input_bytes(source: PathLike | BinaryIO) -> tuple[bytes, str]:
     """Read a whole input into memory, un-gzipped and without a UTF-8 byte-order mark.
 
@@ -81,17 +97,8 @@ def read_input_bytes(source: PathLike | BinaryIO) -> tuple[bytes, str]:
         raw = sys.stdin.buffer.read()
     else:
         name = str(source)
-        path = Path(source)
-        try:
-            raw = _read_owned(path)
-        except FileNotFoundError:
-            raise InputError("no such file", source=name) from None
-        except IsADirectoryError:
-            raise InputError("is a folder, not a file", source=name) from None
-        except PermissionError:
-            raise InputError("cannot be read (permission denied)", source=name) from None
-        except OSError as exc:
-            raise InputError(f"cannot be read ({exc.strerror or exc})", source=name) from None
+        with _opening(name):
+            raw = _read_owned(Path(source))
     if isinstance(raw, str):
         raw = raw.encode("utf-8")
     if raw[:2] == _GZIP_MAGIC:
@@ -915,14 +922,8 @@ def _open_stream(source: PathLike | BinaryIO) -> tuple[BinaryIO, str]:
         stream, name = sys.stdin.buffer, "<stdin>"
     else:
         name = str(source)
-        try:
+        with _opening(name):
             stream = open(source, "rb")
-        except FileNotFoundError:
-            raise InputError("no such file", source=name) from None
-        except IsADirectoryError:
-            raise InputError("is a folder, not a file", source=name) from None
-        except PermissionError:
-            raise InputError("cannot be read (permission denied)", source=name) from None
     buffered = io.BufferedReader(stream) if not hasattr(stream, "peek") else stream
     if buffered.peek(2)[:2] == _GZIP_MAGIC:
         buffered = gzip.GzipFile(fileobj=buffered)

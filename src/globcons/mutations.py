@@ -192,6 +192,13 @@ def _as_target(target, family: Family | None, numbering: str) -> Target:
     return prepare_target(str(target), "target", family, numbering)
 
 
+def _base_verdict(at_site: bool, column_class: str) -> str:
+    """The verdict from the site list and the column class alone (structural rules may raise it later)."""
+    if at_site or column_class == "invariant":
+        return "locked"
+    return "guarded" if column_class == "conservative" else "open"
+
+
 def _site_reasons(target: Target, label: str) -> list[Site]:
     if not label:
         return []
@@ -249,21 +256,13 @@ def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]
     if hgvs:
         hgvs = hgvs + _THREE.get(new, new)
     matrix = load_matrix(family.matrix)
-    reasons: list[str] = []
-    verdict = "open"
     site_list = _site_reasons(target, label)
-    for site in site_list:
-        reasons.append(f"{label}: {site.role}")
-        verdict = "locked"
+    reasons = [f"{label}: {site.role}" for site in site_list]
     frequency = float("nan")
-    column_class = ""
+    column_class = str(family.classes[column]) if column >= 0 else ""
+    verdict = _base_verdict(bool(site_list), column_class)
     if column >= 0:
-        column_class = str(family.classes[column])
         reasons.append(_column_words(family, column))
-        if column_class == "invariant":
-            verdict = "locked"
-        elif column_class == "conservative" and verdict == "open":
-            verdict = "guarded"
         frequency = float(family.frequencies[column, RESIDUE_LETTERS.index(new)])
         reasons.append(f"{new} seen in {frequency:.0%} of the family here" if frequency > 0
                        else f"{new} never seen here in the family")
@@ -411,10 +410,7 @@ def rank_sites(target, family: Family | None = None, numbering: str = "given",
             tolerance = entropy + 0.25 * float(family.gaps[column]) + 0.25 * min(1.0, spread / 3.0)
             cls = str(family.classes[column])
             reasons.append(_column_words(family, column))
-            if cls == "invariant":
-                verdict = "locked"
-            elif cls == "conservative" and verdict == "open":
-                verdict = "guarded"
+            verdict = _base_verdict(bool(site_list), cls)
             substitutions = _substitutions(family, column, wild)
         else:
             tolerance, cls, substitutions = 0.75, "", ""
