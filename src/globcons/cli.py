@@ -593,6 +593,7 @@ def entry() -> None:  # pragma: no cover - console script shim
 
 
 # Commands defined in their own modules register themselves on `cli` when imported.
+from . import cli_contrast  # noqa: E402,F401
 from . import cli_figures  # noqa: E402,F401
 from . import cli_paint  # noqa: E402,F401
 from . import cli_report  # noqa: E402,F401

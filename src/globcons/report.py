@@ -8,7 +8,9 @@ logos of each helix, and writes into a folder:
   data, with autoescaping on (sequence ids and annotations are user input);
 - ``columns.tsv`` (+ ``columns.tsv.meta.json``), ``columns.md``, ``columns.tex`` (booktabs);
 - ``profile.svg``, ``profile.png`` and ``logo_<helix>.svg``;
-- ``methods.md``: the methods paragraph, generated from the options actually used, with its citations.
+- ``methods.md``: the methods paragraph, generated from the options actually used, with its citations;
+- with a grouping (``contrast=``), ``contrast.tsv`` (+ meta) and ``contrast.svg``/``contrast.png``: the
+  group contrast of :mod:`globcons.contrast`, also shown as a section of the HTML.
 
 Files already in the folder that the report does not write are left alone.
 """
@@ -99,7 +101,7 @@ def methods_text(table: pd.DataFrame) -> str:
         "anchor": (f"Columns were tied to the globin helix frame through the sequence {frame.get('anchor')}, placed "
                    "on a profile of four reference globins (Gribskov et al. 1987) by affine-gap alignment (Gotoh "
                    "1982) with helix-dependent gap costs; its significance came from shuffled copies (Karlin and "
-                   f"Altschul 1990; E-value {frame.get('evalue', float('nan')):.1e})."),
+                   f"Altschul 1990; E-value {frame.get('evalue') if frame.get('evalue') is not None else float('nan'):.1e})."),
     }.get(frame.get("source"), "Columns were not tied to the globin helix frame.")
     text = (
         f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of {Path(meta['input']).name} "
@@ -141,9 +143,46 @@ def _options_list(table: pd.DataFrame, alignment: Alignment) -> list[tuple[str, 
     ]
 
 
+def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, settings: dict, inputs: list,
+                      files: list[str]) -> dict:
+    """Compute the group contrast, write contrast.tsv and its figure; what the template's section shows."""
+    from . import figures
+    from .contrast import CONTRAST_CLASSES, assign_groups, contrast_columns, draw_contrast, top_contrast
+
+    top = int(settings.pop("top", 12))
+    groups = assign_groups(aligned, groups_file=settings.pop("groups_file", None),
+                           group_by=settings.pop("group_by", None))
+    table = contrast_columns(aligned, groups, weights=options.weights, identity=options.identity, rules=options.rules,
+                             reference=options.reference, frame=options.frame, **settings)
+    meta = table.attrs
+    files += write_table(table, folder / "contrast.tsv", "tsv", metadata=meta, inputs=inputs)
+    figure = draw_contrast(table, aligned, groups, top=top)
+    for ext in ("svg", "png"):
+        figures.save_figure(figure, folder / f"contrast.{ext}", inputs)
+        files.append(str(folder / f"contrast.{ext}"))
+    best = top_contrast(table, top)
+    shown = ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue"]
+    shown += ["pvalue_permutation"] if "pvalue_permutation" in best else []
+    shown += [c for c in best.columns if c.startswith("consensus_")]
+    return {
+        "figure_uri": _data_uri(folder / "contrast.svg", "image/svg+xml"),
+        "groups": [(g, v["rows"], f"{v['effective_size']:.1f}") for g, v in meta["groups"].items()],
+        "left_out": [(g, v["rows"], f"{v['effective_size']:.1f}") for g, v in meta["left_out_groups"].items()],
+        "min_group_neff": f"{meta['min_group_neff']:g}",
+        "ungrouped": meta["ungrouped_rows"],
+        "class_counts": [(c, meta["class_counts"][c]) for c in CONTRAST_CLASSES],
+        "columns": shown,
+        "rows": [[(name, _text_cell(value)) for name, value in zip(shown, record)]
+                 for record in best[shown].itertuples(index=False, name=None)],
+        "conserved_min": f"{meta['conserved_min']:g}",
+        "max_gaps": f"{meta['max_gaps']:g}",
+        "permutations": meta["permutations"],
+    }
+
+
 def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.PathLike,
                  options: ScoreOptions | None = None, fmt: str | None = None, keep_inserts: bool = False,
-                 logos: bool = True) -> ReportResult:
+                 logos: bool = True, contrast: dict | None = None) -> ReportResult:
     """Write the report of an alignment into ``out_dir`` (created if missing).
 
     Parameters
@@ -156,6 +195,10 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         Scoring options (defaults of :class:`~globcons.columns.ScoreOptions`).
     logos
         Draw a logo of each helix (the slowest part).
+    contrast
+        Add the group contrast: keyword arguments ``groups_file`` or ``group_by`` (see
+        :func:`globcons.contrast.assign_groups`) and optionally ``min_group_neff``, ``permutations``, ``seed``,
+        ``conserved_min``, ``top`` (positions shown, default 12).
     """
     from . import figures
 
@@ -203,6 +246,10 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
             files.append(str(path))
             logo_uris.append((helix, _data_uri(path, "image/svg+xml")))
 
+    contrast_section = None
+    if contrast:
+        contrast_section = _contrast_section(aligned, folder, options, dict(contrast), inputs, files)
+
     rows = [[(name, _text_cell(value)) for name, value in zip(table.columns, record)]
             for record in table.itertuples(index=False, name=None)]
     site_rows = table[table["sites"] != ""].to_dict("records")
@@ -222,7 +269,7 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         frame_note=frame.get("note", ""), profile_uri=profile_uri, logos=logo_uris, sites=site_rows,
         low_data=meta["low_data_columns"], min_neff=f"{meta['rules']['min_neff']:g}", notes=notes,
         table_columns=list(table.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
-        citations=citations,
+        citations=citations, contrast=contrast_section,
     )
     with atomic_output(folder / "report.html", inputs) as stream:
         stream.write(html)
