@@ -108,3 +108,13 @@ def test_report_renders_in_a_real_browser(demo_report, tmp_path):
     not_white = (pixels < 0.95).any(axis=2).mean()
     assert 0.02 < not_white < 0.9  # text and figures drawn, not a blank or a black page
     assert len(np.unique(pixels.reshape(-1, 3), axis=0)) > 50
+
+
+def test_methods_text_covers_the_group_contrast(tmp_path):
+    groups = tmp_path / "groups.tsv"
+    ids = read_alignment(demo_alignment_path()).ids
+    groups.write_text("".join(f"{i}\tsite{i.split('-')[1][1]}\n" for i in ids))  # KBM-S<site>-NN
+    write_report(demo_alignment_path(), tmp_path / "out", logos=False, contrast={"groups_file": str(groups)})
+    methods = (tmp_path / "out" / "methods.md").read_text()
+    assert "generalised Jensen-Shannon divergence" in methods and "site1 (12 sequences" in methods
+    assert "Lin J (1991)" in methods and "Miller GA (1955)" in methods

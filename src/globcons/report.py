@@ -143,6 +143,16 @@ def _options_list(table: pd.DataFrame, alignment: Alignment) -> list[tuple[str, 
     ]
 
 
+_CONTRAST_CITATIONS = [
+    "Lin J (1991) Divergence measures based on the Shannon entropy. IEEE Trans Inf Theory 37:145-151.",
+    "Miller GA (1955) Note on the bias of information estimates. In: Quastler H (ed) Information Theory in "
+    "Psychology. Free Press, pp 95-100.",
+    "Sokal RR, Rohlf FJ (1995) Biometry, 3rd edn. Freeman (the G-test of independence).",
+]
+_PERMUTATION_CITATION = ["Good P (2005) Permutation, Parametric, and Bootstrap Tests of Hypotheses, 3rd edn. "
+                         "Springer."]
+
+
 def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, settings: dict, inputs: list,
                       files: list[str]) -> dict:
     """Compute the group contrast, write contrast.tsv and its figure; what the template's section shows."""
@@ -164,7 +174,21 @@ def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, s
     shown = ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue"]
     shown += ["pvalue_permutation"] if "pvalue_permutation" in best else []
     shown += [c for c in best.columns if c.startswith("consensus_")]
+    group_text = ", ".join(f"{g} ({v['rows']} sequences, {v['effective_size']:.1f} effective)"
+                           for g, v in meta["groups"].items())
+    methods = (
+        f"Positions that distinguish the groups {group_text} were scored by the generalised Jensen-Shannon "
+        "divergence of the groups' weighted residue distributions, each group weighted by its effective size "
+        "(Lin 1991), and by the mutual information between residue and group with the Miller-Madow correction "
+        "(Miller 1955); significance came from the G-test of the residue-by-group table (Sokal and Rohlf 1995)"
+        + (f" and from {meta['permutations']} permutations of the group labels" if meta["permutations"] else "")
+        + f". Groups with fewer than {meta['min_group_neff']:g} effective sequences were left out. A column was "
+        f"group-specific when every group's consensus carried at least {meta['conserved_min']:g} of its residue "
+        "weight and the consensus differed between groups, shared when the consensus was the same in all, "
+        f"gap-rich above a gap fraction of {meta['max_gaps']:g}, and mixed otherwise."
+    )
     return {
+        "methods": methods,
         "figure_uri": _data_uri(folder / "contrast.svg", "image/svg+xml"),
         "groups": [(g, v["rows"], f"{v['effective_size']:.1f}") for g, v in meta["groups"].items()],
         "left_out": [(g, v["rows"], f"{v['effective_size']:.1f}") for g, v in meta["left_out_groups"].items()],
@@ -217,13 +241,6 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     for ext in ("md", "tex"):
         files += write_table(table, folder / f"columns.{ext}", ext, metadata=meta, inputs=inputs,
                              caption=f"Column conservation of {Path(meta['input']).name}")
-    methods = methods_text(table)
-    citations = _citations(meta)
-    with atomic_output(folder / "methods.md", inputs) as stream:
-        stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
-                     + "\n".join(f"- {c}" for c in citations) + "\n")
-    files.append(str(folder / "methods.md"))
-
     profile_uri = ""
     figure = figures.draw_profile(table)
     for ext in ("svg", "png"):
@@ -247,8 +264,16 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
             logo_uris.append((helix, _data_uri(path, "image/svg+xml")))
 
     contrast_section = None
+    methods = methods_text(table)
+    citations = _citations(meta)
     if contrast:
         contrast_section = _contrast_section(aligned, folder, options, dict(contrast), inputs, files)
+        methods += " " + contrast_section["methods"]
+        citations += _CONTRAST_CITATIONS + (_PERMUTATION_CITATION if contrast_section["permutations"] else [])
+    with atomic_output(folder / "methods.md", inputs) as stream:
+        stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
+                     + "\n".join(f"- {c}" for c in citations) + "\n")
+    files.append(str(folder / "methods.md"))
 
     rows = [[(name, _text_cell(value)) for name, value in zip(table.columns, record)]
             for record in table.itertuples(index=False, name=None)]
