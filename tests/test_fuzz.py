@@ -86,3 +86,19 @@ def test_site_table_reader_on_arbitrary_text(tmp_path, pieces):
         sites(path=path)
     except GlobconsError:
         pass
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.lists(st.sampled_from(["id", "group", "\t", "\n", "a", "b", "myo", "#", " ", "\t\t", "x\ty\tz"]),
+                max_size=20))
+def test_groups_and_label_tables_on_arbitrary_text(tmp_path, pieces):
+    from globcons.contrast import read_groups
+    from globcons.mapping import read_label_sidecar
+
+    path = tmp_path / "table.tsv"
+    path.write_text("".join(pieces), encoding="utf-8")
+    for call in (lambda: read_groups(path), lambda: read_label_sidecar(path, 5)):
+        try:
+            call()
+        except GlobconsError:
+            pass
