@@ -608,18 +608,9 @@ def draw_contrast(table: pd.DataFrame, alignment: Alignment, groups: Sequence[st
     ax.set_ylim(0.0, max(math.log2(max(len(kept), 2)), float(np.nanmax(values)) if np.isfinite(values).any() else 0.0)
                 * 1.05)
     ax.set_ylabel("contrast (bits)\nJensen-Shannon divergence", fontsize=9)
-    if labelled.any():
-        from .figures import _frame_ticks
+    from .figures import _position_axis
 
-        ticks = _frame_ticks(labels) if len(labels) > 40 else list(range(len(labels)))
-        ax.set_xticks(ticks, [labels[i] for i in ticks], rotation=90, fontsize=7)
-        ax.set_xlabel("frame position (columns with a frame label)", fontsize=9)
-    else:
-        numbers = shown["column"].astype(int).to_numpy()
-        step = max(1, int(math.ceil(len(numbers) / 40)))
-        ticks = list(range(0, len(numbers), step))
-        ax.set_xticks(ticks, [str(numbers[i]) for i in ticks], rotation=90, fontsize=7)
-        ax.set_xlabel("alignment column", fontsize=9)
+    _position_axis(ax, shown, labels, bool(labelled.any()))
     ax.spines[["top", "right"]].set_visible(False)
     handles, names = ax.get_legend_handles_labels()
     handles.append(Line2D([], [], marker="o", linestyle="none", markerfacecolor="none",

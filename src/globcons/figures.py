@@ -487,6 +487,20 @@ def _spread(positions: Sequence[float], min_gap: float) -> np.ndarray:
     return spread
 
 
+def _position_axis(ax, shown: pd.DataFrame, labels: Sequence[str], labelled: bool) -> None:
+    """X ticks along the drawn columns: frame labels (thinned) when the columns carry them, else numbers."""
+    if labelled:
+        ticks = _frame_ticks(labels) if len(labels) > 40 else list(range(len(labels)))
+        ax.set_xticks(ticks, [labels[i] for i in ticks], rotation=90, fontsize=7)
+        ax.set_xlabel("frame position (columns with a frame label)", fontsize=9)
+    else:
+        numbers = shown["column"].astype(int).to_numpy()
+        step = max(1, int(math.ceil(len(numbers) / 40)))
+        ticks = list(range(0, len(numbers), step))
+        ax.set_xticks(ticks, [str(numbers[i]) for i in ticks], rotation=90, fontsize=7)
+        ax.set_xlabel("alignment column", fontsize=9)
+
+
 def _draw_helix_track(ax, labels: Sequence[str]) -> None:
     band = tint(OKABE_ITO["sky blue"], 0.55)
     for helix, first, last in _helix_runs(labels):
@@ -581,16 +595,7 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
     ax.set_ylim(min(0.0, float(finite.min()) if finite.size else 0.0) - 0.03 * top, top * 1.05 or 1.0)
     ax.set_xlim(-0.7, len(shown) - 0.3)
     ax.set_ylabel(axis_label, fontsize=9)
-    if labelled.any():
-        ticks = _frame_ticks(labels) if len(labels) > 40 else list(range(len(labels)))
-        ax.set_xticks(ticks, [labels[i] for i in ticks], rotation=90, fontsize=7)
-        ax.set_xlabel("frame position (columns with a frame label)", fontsize=9)
-    else:
-        numbers = shown["column"].astype(int).to_numpy()
-        step = max(1, int(math.ceil(len(numbers) / 40)))
-        ticks = list(range(0, len(numbers), step))
-        ax.set_xticks(ticks, [str(numbers[i]) for i in ticks], rotation=90, fontsize=7)
-        ax.set_xlabel("alignment column", fontsize=9)
+    _position_axis(ax, shown, labels, bool(labelled.any()))
     ax.spines[["top", "right"]].set_visible(False)
     handles, names = ax.get_legend_handles_labels()
     if site_positions.size:
