@@ -76,13 +76,13 @@ def child(code: str) -> tuple[float, float]:
 
 def command(path: Path, out: Path, *extra: str) -> tuple[float, float]:
     """`globcons columns` end to end in a fresh process: (wall seconds, peak RSS in MB)."""
-    return measured([sys.executable, "-m", "globcons.cli", "columns", str(path), "-o", str(out), "--quiet", *extra])
+    return measured([sys.executable, "-m", "globcons", "columns", str(path), "-o", str(out), "--quiet", *extra])
 
 
 FLOOR = """
 import numpy as np
-from globcons.io import read_input_bytes, parse_alignment
-from globcons.alphabet import N_CODES
+from globcons.io.readers import read_input_bytes, parse_alignment
+from globcons.core.alphabet import N_CODES
 data, name = read_input_bytes({path!r})
 codes = parse_alignment(data, name).codes
 offsets = np.arange(codes.shape[1]) * N_CODES

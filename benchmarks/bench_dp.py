@@ -1,4 +1,4 @@
-"""Time the batched profile alignment of globcons.dp on synthetic queries (not a test).
+"""Time the batched profile alignment of globcons.align.dp on synthetic queries (not a test).
 
 A random profile of M columns (scores drawn around a random consensus, position-specific gap costs)
 and N random queries whose lengths are drawn around a mean length: half are mutated copies of the
@@ -17,7 +17,7 @@ import time
 
 import numpy as np
 
-from globcons.dp import SCORE_CHUNK_CELLS, GapCosts, align, align_scores
+from globcons.align.dp import SCORE_CHUNK_CELLS, GapCosts, align, align_scores
 
 N_CODES = 24
 

@@ -1,4 +1,4 @@
-"""Time placement on the globin frame (`globcons.place.place_many`) on synthetic globin-like queries.
+"""Time placement on the globin frame (`globcons.align.place.place_many`) on synthetic globin-like queries.
 
 Queries are the four reference chains with 30% of their residues replaced at random (fixed seed;
 synthetic, no real data beyond the packaged reference chains). Reports queries per second with the
@@ -14,8 +14,8 @@ import time
 
 import numpy as np
 
-from globcons.frame import reference_chains
-from globcons.place import DEFAULT_SHUFFLES, place_many
+from globcons.frame.reference import reference_chains
+from globcons.align.place import DEFAULT_SHUFFLES, place_many
 
 
 def queries(count: int, seed: int = 1) -> list[tuple[str, str]]:

@@ -33,7 +33,7 @@ def main() -> None:
     for jobs in (int(j) for j in args.jobs.split(",")):
         summary, residues = folder / f"summary_{jobs}.tsv", folder / f"residues_{jobs}.tsv"
         start = time.perf_counter()
-        subprocess.run([sys.executable, "-m", "globcons.cli", "scan", str(fasta), "-o", str(summary),
+        subprocess.run([sys.executable, "-m", "globcons", "scan", str(fasta), "-o", str(summary),
                         "--residues", str(residues), "--jobs", str(jobs), "--quiet"], check=True)
         seconds = time.perf_counter() - start
         outputs.append((summary.read_bytes(), residues.read_bytes()))

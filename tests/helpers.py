@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from globcons.alignment import Alignment
-from globcons.alphabet import BYTE_TO_CODE
+from globcons.core.alignment import Alignment
+from globcons.core.alphabet import BYTE_TO_CODE
 
 
 def alignment_of(*rows: str, ids: list[str] | None = None) -> Alignment:

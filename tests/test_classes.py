@@ -4,11 +4,11 @@ import numpy as np
 import pytest
 from Bio.Align import substitution_matrices
 
-from globcons.alphabet import RESIDUE_LETTERS
-from globcons.classes import ClassRules, classify, compatible_pairs
-from globcons.counts import column_counts
+from globcons.core.alphabet import RESIDUE_LETTERS
+from globcons.core.classes import ClassRules, classify, compatible_pairs
+from globcons.core.counts import column_counts
 from globcons.errors import OptionError
-from globcons.scores import gap_fraction, residue_frequencies
+from globcons.core.scores import gap_fraction, residue_frequencies
 
 from helpers import alignment_of
 

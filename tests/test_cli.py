@@ -35,7 +35,7 @@ import pytest
 
 import globcons
 from globcons.cli import main
-from globcons.columns import COLUMN_ORDER
+from globcons.analysis.columns import COLUMN_ORDER
 
 ALN = ">s1\nHAD-KWL\n>s2\nHSE-R-L\n>s3\nHADGK--\n>s4\nHSE-Y--\n"
 EXPECTED_CLASS = ["invariant", "conservative", "conservative", "gap-rich", "variable", "gap-rich", "invariant"]
@@ -418,7 +418,7 @@ def test_version(capsys):
 
 
 def _process(*args, stdin: bytes | None = None, cwd=None) -> subprocess.CompletedProcess:
-    return subprocess.run([sys.executable, "-m", "globcons.cli", *map(str, args)], input=stdin,
+    return subprocess.run([sys.executable, "-m", "globcons", *map(str, args)], input=stdin,
                           capture_output=True, cwd=cwd, timeout=120)
 
 

@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 
 from globcons import read_alignment, score_columns, summarise
-from globcons.alignment import Alignment
-from globcons.alphabet import GAP, STANDARD
-from globcons.columns import COLUMN_ORDER
+from globcons.core.alignment import Alignment
+from globcons.core.alphabet import GAP, STANDARD
+from globcons.analysis.columns import COLUMN_ORDER
 from globcons.demo import demo_alignment_path
 from globcons.errors import OptionError
 

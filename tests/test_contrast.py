@@ -1,8 +1,8 @@
-"""Tests of group contrast (:mod:`globcons.contrast`, ``globcons contrast``).
+"""Tests of group contrast (:mod:`globcons.analysis.contrast`, ``globcons contrast``).
 
 Data: synthetic alignments with planted columns (built here from a seeded generator), and the four
 reference chains packaged in ``src/globcons/data/frame`` (UniProt P02185, P02144, P69905, P68871) placed
-on the frame with :func:`globcons.place.align_to_frame`.
+on the frame with :func:`globcons.align.place.align_to_frame`.
 
 Reference values come from hand computation (written out beside each test) and from scipy:
 ``scipy.stats.entropy`` (Shannon entropy), ``scipy.spatial.distance.jensenshannon`` (Jensen-Shannon
@@ -20,9 +20,9 @@ from helpers import alignment_of
 from scipy.spatial.distance import jensenshannon
 from scipy.stats import chi2, chi2_contingency, entropy, kstest
 
-from globcons.alphabet import N_CODES
+from globcons.core.alphabet import N_CODES
 from globcons.cli import main
-from globcons.contrast import (
+from globcons.analysis.contrast import (
     CONTRAST_CLASSES,
     assign_groups,
     contrast_columns,
@@ -30,7 +30,7 @@ from globcons.contrast import (
     group_counts,
     read_groups,
 )
-from globcons.counts import column_counts
+from globcons.core.counts import column_counts
 from globcons.errors import InputError, OptionError
 
 LETTERS = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
@@ -246,8 +246,8 @@ def test_small_group_is_left_out_and_reported():
 
 @pytest.fixture(scope="module")
 def reference_frame():
-    from globcons.frame import reference_chains
-    from globcons.place import align_to_frame
+    from globcons.frame.reference import reference_chains
+    from globcons.align.place import align_to_frame
 
     chains = [(c.name, c.mature_sequence) for c in reference_chains()]
     return align_to_frame(chains, shuffles=0).to_alignment()
@@ -271,8 +271,8 @@ def test_reference_chains_frame_labels(reference_frame):
 
 
 def test_group_by_nearest(reference_frame):
-    from globcons.alignment import Alignment
-    from globcons.alphabet import encode
+    from globcons.core.alignment import Alignment
+    from globcons.core.alphabet import encode
 
     rng = np.random.default_rng(0)
     decoy = encode("".join(rng.choice(LETTERS, reference_frame.n_columns)))

@@ -1,4 +1,4 @@
-"""Tests of globcons.dp against a plain pure-Python DP and against Biopython's local aligner."""
+"""Tests of globcons.align.dp against a plain pure-Python DP and against Biopython's local aligner."""
 
 from __future__ import annotations
 
@@ -10,8 +10,8 @@ from Bio.Align import PairwiseAligner, substitution_matrices
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from globcons.alphabet import N_CODES, STANDARD
-from globcons.dp import GapCosts, Placement, align, align_scores
+from globcons.core.alphabet import N_CODES, STANDARD
+from globcons.align.dp import GapCosts, Placement, align, align_scores
 
 NEG = -math.inf
 

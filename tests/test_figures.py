@@ -25,17 +25,17 @@ import pytest
 from matplotlib.patches import PathPatch
 from matplotlib.colors import to_hex
 
-import globcons.cli_figures  # noqa: F401  (registers logo and profile on the group of globcons.cli)
+import globcons.cli.figures  # noqa: F401  (registers logo and profile on the group of globcons.cli)
 from globcons import read_alignment, score_columns
-from globcons.alphabet import CODE_LETTERS, STANDARD
-from globcons.classes import CLASSES
+from globcons.core.alphabet import CODE_LETTERS, STANDARD
+from globcons.core.classes import CLASSES
 from globcons.cli import main
 from globcons.demo import demo_alignment_path
 from globcons.errors import OptionError
-from globcons.figures import (DEVIATION_ORDER, FIGURE_DPI, column_range, departure_matrix, draw_departure_heatmap,
+from globcons.plots.figures import (DEVIATION_ORDER, FIGURE_DPI, column_range, departure_matrix, draw_departure_heatmap,
                               draw_logo, draw_profile, figure_format, information_matrix, logo_matrix, save_figure,
                               small_sample_correction)
-from globcons.palette import (ABSENT_COLOUR, CLASS_COLOURS, DEVIATION_COLOURS, GROUP_COLOURS, OKABE_ITO,
+from globcons.plots.palette import (ABSENT_COLOUR, CLASS_COLOURS, DEVIATION_COLOURS, GROUP_COLOURS, OKABE_ITO,
                               RESIDUE_COLOURS, TINTS, residue_colour, tint)
 
 from helpers import alignment_of
@@ -356,8 +356,8 @@ def test_heatmap_thins_query_labels_beyond_200():
 
 
 def test_heatmap_of_a_real_scan(tmp_path):
-    from globcons.frame import reference_chain
-    from globcons.scan import scan
+    from globcons.frame.reference import reference_chain
+    from globcons.analysis.scan import scan
 
     beta = reference_chain("human_hemoglobin_beta").full_sequence
     _, residues = scan([("beta", beta), ("beta_H92Y", beta[:92] + "Y" + beta[93:])], shuffles=0)

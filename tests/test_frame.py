@@ -1,4 +1,4 @@
-"""Tests of globcons.frame: reference chains, helix labels, numberings, sites.
+"""Tests of globcons.frame.reference: reference chains, helix labels, numberings, sites.
 
 Expected values are facts of the trade, each with its source beside it; none is copied from the
 module's own output.

@@ -1,4 +1,4 @@
-"""Tests of globcons.io: the alignment and sequence readers.
+"""Tests of globcons.io.readers: the alignment and sequence readers.
 
 Every input is a tiny hand-made file written to ``tmp_path``; every expected code matrix is worked out
 by hand from the code table below (written out here, not taken from the package):
@@ -17,9 +17,9 @@ import numpy as np
 import pytest
 
 from globcons.errors import InputError, InputWarning
-from globcons.io import parse_alignment, read_alignment, read_sequences, sniff_format
+from globcons.io.readers import parse_alignment, read_alignment, read_sequences, sniff_format
 
-# The code table of the module docstring, typed out by hand (independent of globcons.alphabet).
+# The code table of the module docstring, typed out by hand (independent of globcons.core.alphabet).
 _HAND_CODES = {letter: code for code, letter in enumerate("ACDEFGHIKLMNPQRSTVWY")}
 _HAND_CODES.update({"U": 20, "O": 21, "X": 22, "B": 22, "Z": 22, "J": 22, "-": 23, ".": 23, "~": 23})
 

@@ -10,9 +10,9 @@ import pytest
 
 from globcons.cli import main
 from globcons.errors import OptionError
-from globcons.family import family_from_alignment
-from globcons.frame import reference_chain
-from globcons.mutations import CAUTION, check, prepare_target, rank_sites
+from globcons.analysis.family import family_from_alignment
+from globcons.frame.reference import reference_chain
+from globcons.mutations.judge import CAUTION, check, prepare_target, rank_sites
 
 from helpers import planted_family
 

@@ -1,4 +1,4 @@
-"""Tests of globcons.notation: reading and writing single substitutions.
+"""Tests of globcons.mutations.notation: reading and writing single substitutions.
 
 Facts used: beta's sickle-cell change is Glu6Val in traditional (mature) numbering, p.Glu7Val in HGVS
 numbering which counts the initiator Met, at frame label A3; beta His92 is F8 (nomenclature from
@@ -14,7 +14,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from globcons.errors import InputError, OptionError
-from globcons.notation import (
+from globcons.mutations.notation import (
     STYLES,
     Mutation,
     format_mutation,

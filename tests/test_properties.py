@@ -23,10 +23,10 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 import globcons
-from globcons.alignment import Alignment
-from globcons.alphabet import encode
+from globcons.core.alignment import Alignment
+from globcons.core.alphabet import encode
 from globcons.errors import GlobconsError
-from globcons.io import parse_alignment
+from globcons.io.readers import parse_alignment
 
 SETTINGS = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 

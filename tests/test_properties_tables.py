@@ -1,4 +1,4 @@
-"""Tests of globcons.residue_properties against the published tables.
+"""Tests of globcons.core.properties against the published tables.
 
 Expected values are typed here from the papers, independently of the module (both from memory):
 Kyte & Doolittle 1982 J Mol Biol 157:105 (hydropathy index) and Zamyatnin 1972 Prog Biophys Mol Biol
@@ -10,8 +10,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from globcons import residue_properties as rp
-from globcons.alphabet import STANDARD
+from globcons.core import properties as rp
+from globcons.core.alphabet import STANDARD
 from globcons.errors import OptionError
 
 # Kyte & Doolittle 1982 J Mol Biol 157:105, hydropathy index (from memory).

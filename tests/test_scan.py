@@ -11,9 +11,9 @@ import numpy as np
 import pytest
 
 from globcons.cli import main
-from globcons.frame import reference_chain, reference_chains
-from globcons.io import stream_records
-from globcons.scan import family_from_alignment, scan
+from globcons.frame.reference import reference_chain, reference_chains
+from globcons.io.readers import stream_records
+from globcons.analysis.scan import family_from_alignment, scan
 
 from helpers import planted_family
 from test_place import LYSOZYME, UBIQUITIN

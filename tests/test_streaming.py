@@ -17,11 +17,11 @@ import pytest
 
 from globcons import read_alignment, score_columns
 from globcons.cli import main
-from globcons.columns import ScoreOptions
+from globcons.analysis.columns import ScoreOptions
 from globcons.errors import InputError, OptionError
-from globcons.io import _parse_fasta_rows, parse_alignment
-from globcons import streaming
-from globcons.streaming import plan_reading, record_chunks, stream_columns
+from globcons.io.readers import _parse_fasta_rows, parse_alignment
+from globcons.analysis import streaming
+from globcons.analysis.streaming import plan_reading, record_chunks, stream_columns
 
 _LETTERS = "ACDEFGHIKLMNPQRSTVWY"
 _HAND_CODES = {letter: code for code, letter in enumerate(_LETTERS)}

@@ -19,14 +19,14 @@ from Bio.PDB.MMCIF2Dict import MMCIF2Dict
 from Bio.SeqUtils import seq3
 
 import globcons.cli  # noqa: F401  (the command group first, then the command registered on it)
-import globcons.cli_paint  # noqa: F401
+import globcons.cli.paint  # noqa: F401
 from globcons.cli import main
-from globcons.columns import score_columns
+from globcons.analysis.columns import score_columns
 from globcons.demo import demo_alignment_path
 from globcons.errors import InputError, InputWarning, OptionError
-from globcons.frame import reference_chain
-from globcons.io import read_alignment
-from globcons.structure import (SCORES, SENTINEL, chain_residues, map_chain_to_alignment, mapping_stats,
+from globcons.frame.reference import reference_chain
+from globcons.io.readers import read_alignment
+from globcons.structure.paint import (SCORES, SENTINEL, chain_residues, map_chain_to_alignment, mapping_stats,
                                 paint_structure, read_structure, score_values)
 
 FIRST = 81  # residue number of the first Trp

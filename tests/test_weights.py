@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from globcons.errors import OptionError
-from globcons.weights import cluster_weights, compute_weights, distinct_rows, henikoff_weights
+from globcons.core.weights import cluster_weights, compute_weights, distinct_rows, henikoff_weights
 
 from helpers import alignment_of
 

@@ -6,13 +6,13 @@ The Python API mirrors the command line::
     table = score_columns(read_alignment("family.fasta"), weights="henikoff", max_gaps=0.5)
 """
 
-from ._version import __version__
-from .alignment import Alignment
-from .classes import CLASSES, ClassRules
-from .columns import ScoreOptions, score_columns, summarise
-from .errors import GlobconsError, InputError, InputWarning, OptionError, OutputError
-from .io import read_alignment, read_sequences
-from .weights import compute_weights
+from globcons._version import __version__
+from globcons.core.alignment import Alignment
+from globcons.core.classes import CLASSES, ClassRules
+from globcons.analysis.columns import ScoreOptions, score_columns, summarise
+from globcons.errors import GlobconsError, InputError, InputWarning, OptionError, OutputError
+from globcons.io.readers import read_alignment, read_sequences
+from globcons.core.weights import compute_weights
 
 __all__ = [
     "__version__",

@@ -15,10 +15,10 @@ from pathlib import Path
 
 import pandas as pd
 
-from .columns import score_columns, summarise
-from .errors import OutputError
-from .io import read_alignment, read_sequences
-from .tables import write_table
+from globcons.analysis.columns import score_columns, summarise
+from globcons.errors import OutputError
+from globcons.io.readers import read_alignment, read_sequences
+from globcons.io.tables import write_table
 
 __all__ = ["demo_alignment_path", "demo_file", "DemoResult", "run_demo"]
 
@@ -69,11 +69,11 @@ def run_demo(out_dir: str | os.PathLike = "globcons-demo", full: bool = True) ->
     if not full:
         return DemoResult(table, summarise(table), tuple(files))
 
-    from .family import family_from_alignment
-    from .mutations import CAUTION, check, prepare_target
-    from .notation import read_mutation_file
-    from .report import write_report
-    from .scan import scan
+    from globcons.analysis.family import family_from_alignment
+    from globcons.mutations.judge import CAUTION, check, prepare_target
+    from globcons.mutations.notation import read_mutation_file
+    from globcons.report.writer import write_report
+    from globcons.analysis.scan import scan
 
     family = family_from_alignment(alignment, labels=tuple(table["frame_label"]))
     queries = [(r.id, r.sequence) for r in read_sequences(demo_file("demo_queries.fasta"))]

@@ -1,0 +1,646 @@
+"""Group contrast: the columns that are conserved inside groups of sequences but differ between them.
+
+Given an alignment and a grouping of its rows (a table of ``id<TAB>group``, a regular expression over the
+ids, or each row's nearest reference chain), :func:`contrast_columns` scores every column.
+
+Definitions
+-----------
+Rows are weighted on the *whole* alignment (:func:`globcons.core.weights.compute_weights`); rows without a
+group are then left out, and so are groups whose effective size (sum of their rows' weights) is below
+``min_group_neff``. For the ``g`` groups kept, in column ``j``:
+
+``O[k, a]``
+    the summed weight of the rows of group ``k`` holding residue ``a`` (22 residue codes: the 20
+    standard ones, U and O; gaps and X are not residues). ``n_k = sum_a O[k, a]``, ``N = sum_k n_k``.
+``p_k = O[k, :] / n_k``
+    the group's residue distribution (undefined, and the group ignored in that column, when ``n_k = 0``).
+``consensus_<group>``
+    the group's most weighted residue (ties alphabetical; ``-`` when it has none).
+``conservation_<group>``
+    ``1 - H(p_k) / log2(20)`` over the 20 standard residues (1: one residue; 0: all twenty alike).
+``contrast``
+    the generalised Jensen-Shannon divergence (Lin 1991, IEEE Trans Inf Theory 37:145) of the group
+    distributions, in bits: ``H(sum_k pi_k p_k) - sum_k pi_k H(p_k)``, with ``pi_k`` the group's effective
+    size divided by the summed effective size of the groups that hold a residue in the column. It lies
+    between 0 (every group has the same distribution) and ``log2(g)``; for two groups of equal size it is
+    the squared Jensen-Shannon distance.
+``mi``
+    the mutual information (Shannon 1948) between residue and group in the column's joint table ``O / N``,
+    in bits, with the Miller-Madow correction (Miller 1955) of each of the three entropies in
+    ``MI = H(residue) + H(group) - H(residue, group)``, i.e.
+    ``mi = MI_plugin - (m_rg - m_r - m_g + 1) / (2 N ln 2)`` with ``m_*`` the numbers of non-empty cells of
+    the joint table and of its margins; clipped at 0. Without gaps, ``contrast`` equals ``MI_plugin``.
+``pvalue``
+    the G-test of independence of residue and group (Sokal & Rohlf, Biometry):
+    ``G = 2 sum O ln(O / E)``, ``E[k, a] = n_k * sum_k O[k, a] / N``, referred to chi-square with
+    ``(r - 1)(g' - 1)`` degrees of freedom (``r`` residues and ``g'`` groups present in the column);
+    1 when the degrees of freedom are 0. With ``weights="none"`` ``O`` are counts and this is the usual
+    test; with sequence weights, ``O`` are effective counts and the p-value is an approximation.
+``pvalue_permutation`` (``permutations=K > 0``)
+    ``(1 + #{permutations with G >= G_observed}) / (1 + K)``, the group labels of the kept rows permuted
+    ``K`` times with a fixed seed (the row weights move with the rows); valid at any sample size.
+``class``
+    ``gap-rich`` when the weighted gap fraction of the grouped rows exceeds ``rules.max_gaps``; else,
+    calling a group *conserved* in the column when its own gap fraction is at most ``rules.max_gaps`` and
+    its consensus residue carries at least ``conserved_min`` of its residue weight: ``shared`` when every
+    group is conserved with the same consensus, ``group-specific`` when every group is conserved and the
+    consensus differs between some groups, ``mixed`` otherwise.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import re
+import warnings
+from pathlib import Path
+from typing import Mapping, Sequence
+
+import numpy as np
+import pandas as pd
+from scipy.stats import chi2
+
+from globcons._version import __version__
+from globcons.core.alignment import Alignment
+from globcons.core.alphabet import CODE_LETTERS, GAP, N_CODES, N_RESIDUES, N_STANDARD, decode
+from globcons.core.classes import ClassRules
+from globcons.errors import InputError, InputWarning, OptionError
+from globcons.align.anchor import ColumnMapping, column_sites, map_columns
+from globcons.core.weights import compute_weights
+
+__all__ = ["CONTRAST_CLASSES", "NEAREST_GROUPS", "assign_groups", "read_groups", "contrast_columns",
+           "group_counts", "permutation_pvalues", "summarise_contrast", "top_contrast", "draw_contrast",
+           "CLASS_MARKERS"]
+
+#: The classes of a contrast table (a contract: scripts rely on these words).
+CONTRAST_CLASSES = ("group-specific", "shared", "mixed", "gap-rich")
+
+#: Group of each reference chain for ``--group-by nearest`` (rows that do not place as globins: ``other``).
+NEAREST_GROUPS: dict[str, str] = {
+    "sperm_whale_myoglobin": "myoglobin-like",
+    "human_myoglobin": "myoglobin-like",
+    "human_hemoglobin_alpha": "alpha-like",
+    "human_hemoglobin_beta": "beta-like",
+}
+
+_HEADER_WORDS = {"id", "ids", "sequence", "sequence_id", "seq_id", "name", "identifier", "accession", "row"}
+_TOLERANCE = 1e-9
+#: Upper bound of the (permutations x rows x columns) index array of one permutation block.
+_BLOCK_ELEMENTS = 4_000_000
+
+
+# ---------------------------------------------------------------------------------------------------
+# Groups
+
+
+def read_groups(path: str | os.PathLike) -> dict[str, str]:
+    """Read a groups table: one ``id<TAB>group`` per line, an optional header, ``#`` comments, blank lines.
+
+    The first line is a header when its first field is one of ``id``, ``sequence``, ``name``, ...
+    (case-insensitive).
+
+    Raises
+    ------
+    InputError
+        Naming the file and line, for a line without exactly two non-empty tab-separated fields or an id
+        given two different groups.
+    """
+    source = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read the groups table ({exc})", source=source) from None
+    groups: dict[str, str] = {}
+    first = True
+    for number, raw in enumerate(text.splitlines(), start=1):
+        line = raw.rstrip("\r")
+        if not line.strip() or line.lstrip().startswith("#"):
+            continue
+        fields = [field.strip() for field in line.split("\t")]
+        if first and fields[0].lower() in _HEADER_WORDS:
+            first = False
+            continue
+        first = False
+        if len(fields) != 2 or not fields[0] or not fields[1]:
+            raise InputError(f"expected 'id<TAB>group', got {line[:60]!r}", source=source, line=number)
+        identifier, group = fields
+        if groups.get(identifier, group) != group:
+            raise InputError(f"id {identifier!r} is given two groups ({groups[identifier]!r} and {group!r})",
+                             source=source, line=number)
+        groups[identifier] = group
+    if not groups:
+        raise InputError("the groups table lists no id", source=source)
+    return groups
+
+
+def _groups_by_regex(ids: Sequence[str], pattern: str) -> np.ndarray:
+    try:
+        compiled = re.compile(pattern)
+    except re.error as exc:
+        raise OptionError(f"--group-by {pattern!r} is not a regular expression ({exc})") from None
+    if compiled.groups != 1:
+        raise OptionError(f"--group-by {pattern!r} must have exactly one capture group (...), it has "
+                          f"{compiled.groups}")
+    result = np.full(len(ids), "", dtype=object)
+    for index, identifier in enumerate(ids):
+        match = compiled.search(identifier)
+        if match and match.group(1):
+            result[index] = match.group(1)
+    return result
+
+
+def _groups_by_nearest(alignment: Alignment, shuffles: int) -> np.ndarray:
+    from globcons.align.place import place_many
+
+    result = np.full(alignment.n_rows, "", dtype=object)
+    rows = [i for i in range(alignment.n_rows) if (alignment.codes[i] < N_RESIDUES).any()]
+    records = [(alignment.ids[i], decode(alignment.codes[i]).replace("-", "")) for i in rows]
+    for row, placed in zip(rows, place_many(records, shuffles=shuffles)):
+        result[row] = NEAREST_GROUPS.get(placed.nearest_reference, "other") if placed.is_globin else "other"
+    return result
+
+
+def assign_groups(alignment: Alignment, groups_file: str | os.PathLike | None = None,
+                  group_by: str | None = None, shuffles: int = 12) -> np.ndarray:
+    """The group of every row of an alignment.
+
+    Parameters
+    ----------
+    alignment
+        The alignment.
+    groups_file
+        A table of ``id<TAB>group`` (see :func:`read_groups`); ids not in the alignment are ignored.
+    group_by
+        A regular expression with one capture group, searched in each id (the captured text is the
+        group); or ``"nearest"``: the row's nearest reference chain on the globin frame, as
+        ``myoglobin-like``, ``alpha-like``, ``beta-like``, or ``other`` for rows that do not place
+        significantly (E-value from ``shuffles`` shuffled copies).
+    shuffles
+        Shuffled copies per row for ``nearest`` (must be > 0 to tell ``other``).
+
+    Returns
+    -------
+    numpy.ndarray
+        Object array of length N: the group name of each row, ``""`` for a row without a group. The
+        number of rows without a group is reported as an :class:`~globcons.errors.InputWarning`.
+    """
+    if (groups_file is None) == (group_by is None):
+        raise OptionError("give either a groups table (--groups FILE) or --group-by REGEX|nearest")
+    if groups_file is not None:
+        table = read_groups(groups_file)
+        result = np.array([table.get(identifier, "") for identifier in alignment.ids], dtype=object)
+        unknown = len(set(table) - set(alignment.ids))
+        if unknown == len(table):
+            raise InputError(f"none of its {len(table)} ids is a row of {alignment.source}", source=str(groups_file))
+        if unknown:
+            warnings.warn(f"{unknown} id(s) of {groups_file} are not rows of the alignment (ignored)", InputWarning,
+                          stacklevel=2)
+    elif group_by == "nearest":
+        if shuffles <= 0:
+            raise OptionError("--group-by nearest needs shuffled copies to tell non-globins (shuffles > 0)")
+        result = _groups_by_nearest(alignment, shuffles)
+    else:
+        result = _groups_by_regex(alignment.ids, str(group_by))
+    missing = int((result == "").sum())
+    if missing:
+        warnings.warn(f"{missing} of {alignment.n_rows} rows have no group and are left out", InputWarning,
+                      stacklevel=2)
+    return result
+
+
+# ---------------------------------------------------------------------------------------------------
+# Counts and scores
+
+
+def group_counts(codes: np.ndarray, labels: np.ndarray, n_groups: int, weights: np.ndarray) -> np.ndarray:
+    """Weighted count of every code in every column of every group, from ONE bincount.
+
+    Parameters
+    ----------
+    codes
+        ``uint8`` (N, L).
+    labels
+        ``int`` (N,): group index 0..n_groups-1 of each row.
+    n_groups
+        Number of groups.
+    weights
+        (N,) row weights.
+
+    Returns
+    -------
+    numpy.ndarray
+        ``float64`` (n_groups, L, N_CODES).
+    """
+    n_columns = codes.shape[1]
+    offsets = ((labels.astype(np.int64)[:, None] * n_columns + np.arange(n_columns, dtype=np.int64)[None, :])
+               * N_CODES + codes)
+    flat = np.bincount(offsets.ravel(), weights=np.broadcast_to(weights[:, None], codes.shape).ravel(),
+                       minlength=n_groups * n_columns * N_CODES)
+    return flat.reshape(n_groups, n_columns, N_CODES)
+
+
+def _xlogx(x: np.ndarray) -> np.ndarray:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(x > 0, x * np.log(np.where(x > 0, x, 1.0)), 0.0)
+
+
+def _g_statistic(residues: np.ndarray) -> np.ndarray:
+    """G = 2 sum O ln(O/E) of every column; ``residues`` (..., g, L, R) -> (..., L).
+
+    Uses sum O ln(O/E) = sum xlogx(O) - sum xlogx(row) - sum xlogx(col) + xlogx(N).
+    """
+    by_residue = residues.sum(axis=-3)  # (..., L, R)
+    by_group = residues.sum(axis=-1)  # (..., g, L)
+    total = by_group.sum(axis=-2)  # (..., L)
+    value = (_xlogx(residues).sum(axis=(-3, -1)) - _xlogx(by_residue).sum(axis=-1) - _xlogx(by_group).sum(axis=-2)
+             + _xlogx(total))
+    return np.maximum(2.0 * value, 0.0)
+
+
+def _entropy_bits(p: np.ndarray, axis: int = -1) -> np.ndarray:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return -np.where(p > 0, p * np.log2(np.where(p > 0, p, 1.0)), 0.0).sum(axis=axis)
+
+
+def _contrast_scores(residues: np.ndarray, group_sizes: np.ndarray) -> dict[str, np.ndarray]:
+    """Scores of every column from the (g, L, R) residue counts and the groups' effective sizes."""
+    n_k = residues.sum(axis=2)  # (g, L)
+    total = n_k.sum(axis=0)  # (L,)
+    present = n_k > 0
+    with np.errstate(invalid="ignore", divide="ignore"):
+        p = np.where(present[:, :, None], residues / np.where(present, n_k, 1.0)[:, :, None], 0.0)
+    pi = np.where(present, group_sizes[:, None], 0.0)
+    pi = pi / np.where(pi.sum(axis=0) > 0, pi.sum(axis=0), 1.0)
+    mixture = (pi[:, :, None] * p).sum(axis=0)
+    contrast = _entropy_bits(mixture) - (pi * _entropy_bits(p)).sum(axis=0)
+    contrast = np.maximum(contrast, 0.0)
+
+    g_stat = _g_statistic(residues)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mi_plugin = g_stat / (2.0 * np.where(total > 0, total, 1.0) * math.log(2.0))
+    m_rg = (residues > 0).sum(axis=(0, 2))
+    m_r = (residues.sum(axis=0) > 0).sum(axis=1)
+    m_g = present.sum(axis=0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        bias = (m_rg - m_r - m_g + 1) / (2.0 * np.where(total > 0, total, 1.0) * math.log(2.0))
+    mi = np.maximum(mi_plugin - bias, 0.0)
+    df = (m_r - 1).clip(min=0) * (m_g - 1).clip(min=0)
+    pvalue = np.where(df > 0, chi2.sf(g_stat, np.maximum(df, 1)), 1.0)
+    empty = total <= 0
+    for array in (contrast, mi, pvalue, g_stat, mi_plugin):
+        array[empty] = np.nan
+    return {"contrast": contrast, "mi": mi, "mi_plugin": mi_plugin, "g": g_stat, "df": df, "pvalue": pvalue,
+            "p": p, "n_k": n_k, "total": total}
+
+
+def permutation_pvalues(codes: np.ndarray, labels: np.ndarray, n_groups: int, weights: np.ndarray,
+                        observed: np.ndarray, permutations: int, seed: int = 0) -> np.ndarray:
+    """Permutation p-values of the G statistic of every column, permutations batched.
+
+    The group labels are permuted ``permutations`` times (one ``(K, N)`` array from a seeded generator);
+    each block of permutations is counted with one bincount over (permutation, group, column, code)
+    offsets, so no loop runs over columns or single permutations.
+
+    Parameters
+    ----------
+    codes, labels, n_groups, weights
+        As for :func:`group_counts`.
+    observed
+        (L,) the observed G of each column.
+    permutations
+        K.
+    seed
+        Seed of :func:`numpy.random.default_rng`.
+
+    Returns
+    -------
+    numpy.ndarray
+        (L,) ``(1 + #{G_perm >= G_obs}) / (1 + K)``; NaN where ``observed`` is NaN.
+    """
+    n_rows, n_columns = codes.shape
+    rng = np.random.default_rng(seed)
+    permuted = rng.permuted(np.broadcast_to(labels.astype(np.int64), (permutations, n_rows)), axis=1)
+    cell = (np.arange(n_columns, dtype=np.int64)[None, :] * N_CODES + codes)  # (N, L)
+    row_weights = np.broadcast_to(weights[:, None], codes.shape)
+    per_block = max(1, _BLOCK_ELEMENTS // max(1, n_rows * n_columns))
+    exceed = np.zeros(n_columns, dtype=np.int64)
+    threshold = observed - 1e-9 * np.maximum(1.0, np.abs(observed))  # equal tables may differ in the last bits
+    for start in range(0, permutations, per_block):
+        block = permuted[start:start + per_block]
+        k = block.shape[0]
+        offsets = ((np.arange(k, dtype=np.int64)[:, None] * n_groups + block)[:, :, None]
+                   * (n_columns * N_CODES) + cell[None, :, :])
+        flat = np.bincount(offsets.ravel(), weights=np.broadcast_to(row_weights, (k,) + codes.shape).ravel(),
+                           minlength=k * n_groups * n_columns * N_CODES)
+        counts = flat.reshape(k, n_groups, n_columns, N_CODES)[..., :N_RESIDUES]
+        exceed += (_g_statistic(counts) >= threshold[None, :]).sum(axis=0)
+    pvalues = (1.0 + exceed) / (1.0 + permutations)
+    pvalues[~np.isfinite(observed)] = np.nan
+    return pvalues
+
+
+def _consensus(residues: np.ndarray) -> np.ndarray:
+    """(g, L, R) -> (g, L) object array of letters, '-' where a group has no residue."""
+    letters = np.array(list(CODE_LETTERS[:N_RESIDUES]), dtype=object)[residues.argmax(axis=2)]
+    letters[residues.max(axis=2) <= 0] = "-"
+    return letters
+
+
+def _conservation(residues: np.ndarray) -> np.ndarray:
+    standard = residues[..., :N_STANDARD]
+    n = standard.sum(axis=-1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        p = standard / np.where(n > 0, n, 1.0)[..., None]
+    value = 1.0 - _entropy_bits(p) / math.log2(N_STANDARD)
+    return np.where(n > 0, np.clip(value, 0.0, 1.0), np.nan)
+
+
+def _labels_of(alignment: Alignment, groups) -> np.ndarray:
+    if isinstance(groups, Mapping):
+        return np.array([str(groups.get(identifier, "") or "") for identifier in alignment.ids], dtype=object)
+    labels = np.array(["" if g is None else str(g) for g in groups], dtype=object)
+    if labels.shape != (alignment.n_rows,):
+        raise OptionError(f"{labels.size} group names for {alignment.n_rows} rows")
+    return labels
+
+
+def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mapping[str, str] | np.ndarray,
+                     weights: str = "henikoff", identity: float = 0.8, min_group_neff: float = 3.0,
+                     permutations: int = 0, seed: int = 0, rules: ClassRules = ClassRules(),
+                     conserved_min: float = 0.8, reference: str | None = None, frame: bool = True) -> pd.DataFrame:
+    """Score every column for how it sets groups of rows apart (see the module notes for every definition).
+
+    Parameters
+    ----------
+    alignment
+        The alignment.
+    groups
+        The group of every row (a sequence of length N, ``""``/None for none, e.g. from
+        :func:`assign_groups`), or a mapping id -> group.
+    weights, identity
+        Sequence weighting, computed on the whole alignment (``henikoff``, ``none``, ``cluster``).
+    min_group_neff
+        Groups with a smaller effective size are left out (listed in ``.attrs["left_out_groups"]``).
+    permutations
+        K > 0 adds ``pvalue_permutation`` from K label permutations.
+    seed
+        Seed of the permutations.
+    rules
+        ``rules.max_gaps`` sets the gap-rich threshold (of the grouped rows, and of each group for
+        *conserved*).
+    conserved_min
+        Share of a group's residue weight its consensus residue needs for the group to be conserved.
+    reference
+        Tie the frame through this row (as ``globcons columns --reference``).
+    frame
+        Add frame labels and sites (False leaves them empty).
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per column: ``column``, ``frame_label``, ``sites``, ``class``, ``contrast``, ``mi``,
+        ``pvalue`` (``pvalue_permutation``), ``gap_fraction``, ``n_eff``, then ``consensus_<group>`` and
+        ``conservation_<group>`` per group; ``.attrs`` holds the groups, their sizes and the options.
+
+    Raises
+    ------
+    OptionError
+        For bad options, or fewer than two groups of at least ``min_group_neff``.
+    """
+    if min_group_neff < 0:
+        raise OptionError(f"--min-group-neff must not be negative, got {min_group_neff}")
+    if permutations < 0:
+        raise OptionError(f"--permutations must not be negative, got {permutations}")
+    if not 0.0 < conserved_min <= 1.0:
+        raise OptionError(f"--conserved-min must be in (0, 1], got {conserved_min}")
+    names = _labels_of(alignment, groups)
+    row_weights = compute_weights(alignment.codes, weights, identity).values
+    all_groups = sorted(set(names) - {""})
+    sizes = {g: {"rows": int((names == g).sum()), "effective_size": round(float(row_weights[names == g].sum()), 6)}
+             for g in all_groups}
+    kept = [g for g in all_groups if sizes[g]["effective_size"] >= min_group_neff - _TOLERANCE]
+    left_out = {g: sizes[g] for g in all_groups if g not in kept}
+    if len(kept) < 2:
+        have = ", ".join(f"{g} ({v['effective_size']:.1f})" for g, v in sizes.items()) or "none"
+        raise OptionError(f"need at least two groups with an effective size of at least {min_group_neff:g}; "
+                          f"have {have}")
+    index = {g: k for k, g in enumerate(kept)}
+    in_kept = np.array([name in index for name in names], dtype=bool)
+    codes = np.ascontiguousarray(alignment.codes[in_kept])
+    labels = np.array([index[name] for name in names[in_kept]], dtype=np.int64)
+    w = row_weights[in_kept]
+    counts = group_counts(codes, labels, len(kept), w)  # (g, L, N_CODES)
+    residues = counts[..., :N_RESIDUES]
+    scores = _contrast_scores(residues, np.array([sizes[g]["effective_size"] for g in kept]))
+
+    column_total = counts.sum(axis=(0, 2))
+    gaps = np.where(column_total > 0, counts[..., GAP].sum(axis=0) / np.where(column_total > 0, column_total, 1), 0.0)
+    group_total = counts.sum(axis=2)
+    group_gaps = np.where(group_total > 0, counts[..., GAP] / np.where(group_total > 0, group_total, 1), 1.0)
+    consensus = _consensus(residues)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        top_share = np.where(scores["n_k"] > 0, residues.max(axis=2) / np.where(scores["n_k"] > 0, scores["n_k"], 1), 0.0)
+    conserved = (top_share >= conserved_min - _TOLERANCE) & (group_gaps <= rules.max_gaps + _TOLERANCE)
+    all_conserved = conserved.all(axis=0)
+    same = (consensus == consensus[0:1]).all(axis=0)
+    classes = np.full(alignment.n_columns, "mixed", dtype=object)
+    classes[all_conserved & same] = "shared"
+    classes[all_conserved & ~same] = "group-specific"
+    classes[gaps > rules.max_gaps + _TOLERANCE] = "gap-rich"
+
+    if frame:
+        source = alignment.source if Path(alignment.source).is_file() else None
+        mapping = map_columns(alignment, anchor=reference, source_path=source)
+    else:
+        mapping = ColumnMapping(("",) * alignment.n_columns, "none", note="frame mapping switched off")
+    data: dict[str, object] = {
+        "column": np.arange(1, alignment.n_columns + 1),
+        "frame_label": list(mapping.labels),
+        "sites": column_sites(mapping.labels, mapping.nearest_reference),
+        "class": classes.astype(str),
+        "contrast": scores["contrast"],
+        "mi": scores["mi"],
+        "pvalue": scores["pvalue"],
+    }
+    if permutations:
+        data["pvalue_permutation"] = permutation_pvalues(codes, labels, len(kept), w, scores["g"], permutations, seed)
+    data["gap_fraction"] = gaps
+    data["n_eff"] = scores["total"]
+    conservation = _conservation(residues)
+    for k, g in enumerate(kept):
+        data[f"consensus_{g}"] = consensus[k].astype(str)
+    for k, g in enumerate(kept):
+        data[f"conservation_{g}"] = conservation[k]
+    table = pd.DataFrame(data)
+    table.attrs.update({
+        "tool": "globcons",
+        "version": __version__,
+        "input": alignment.source,
+        "format": alignment.format,
+        "sequences": alignment.n_rows,
+        "columns": alignment.n_columns,
+        "grouped_rows": int(in_kept.sum()),
+        "ungrouped_rows": int((names == "").sum()),
+        "weights": weights,
+        "identity": identity if weights == "cluster" else None,
+        "groups": {g: sizes[g] for g in kept},
+        "left_out_groups": left_out,
+        "min_group_neff": min_group_neff,
+        "conserved_min": conserved_min,
+        "max_gaps": rules.max_gaps,
+        "permutations": permutations,
+        "seed": seed if permutations else None,
+        "reference": reference,
+        "class_counts": {name: int((classes == name).sum()) for name in CONTRAST_CLASSES},
+        "frame": {"source": mapping.source, "anchor": mapping.anchor, "nearest_reference": mapping.nearest_reference,
+                  "note": mapping.note},
+        "scores": {"contrast": "generalised Jensen-Shannon divergence of the group residue distributions, weighted "
+                               "by group effective size (bits; Lin 1991)",
+                   "mi": "mutual information of residue and group, Miller-Madow corrected (bits; Shannon 1948, "
+                         "Miller 1955)",
+                   "pvalue": "G-test of independence, chi-square with (r-1)(g-1) df",
+                   "pvalue_permutation": "(1 + #permuted G >= observed G) / (1 + K)"},
+    })
+    return table
+
+
+def top_contrast(table: pd.DataFrame, n: int = 12) -> pd.DataFrame:
+    """The ``n`` columns of highest contrast that are not gap-rich (ties: lower p-value, then column)."""
+    candidates = table[(table["class"] != "gap-rich") & table["contrast"].notna()]
+    return candidates.sort_values(["contrast", "pvalue", "column"], ascending=[False, True, True],
+                                  kind="stable").head(n)
+
+
+def summarise_contrast(table: pd.DataFrame) -> str:
+    """One line: groups with their sizes, columns by class, left-out groups and rows."""
+    meta = table.attrs
+    groups = ", ".join(f"{g} ({v['rows']} rows, {v['effective_size']:.1f} effective)" for g, v in meta["groups"].items())
+    counts = ", ".join(f"{meta['class_counts'][c]} {c}" for c in CONTRAST_CLASSES)
+    line = f"{meta['columns']} columns, groups {groups}: {counts}"
+    if meta["left_out_groups"]:
+        line += "; left out (effective size < {:g}): ".format(meta["min_group_neff"]) + ", ".join(
+            f"{g} ({v['effective_size']:.1f})" for g, v in meta["left_out_groups"].items())
+    if meta["ungrouped_rows"]:
+        line += f"; {meta['ungrouped_rows']} rows without a group"
+    return line
+
+
+# ---------------------------------------------------------------------------------------------------
+# Figure
+
+#: Colour of each contrast class in the figure (Okabe & Ito 2008 colours and a tint of black).
+CLASS_MARKERS: dict[str, str] = {"group-specific": "#D55E00", "shared": "#0072B2", "mixed": "#999999",
+                                 "gap-rich": "#CCCCCC"}
+
+
+def draw_contrast(table: pd.DataFrame, alignment: Alignment, groups: Sequence[str | None] | Mapping[str, str],
+                  top: int = 12, path: str | os.PathLike | None = None, title: str | None = None,
+                  inputs: Sequence = ()):
+    """Draw the contrast along the frame (helices as bands) and the top positions as per-group logos.
+
+    Parameters
+    ----------
+    table
+        From :func:`contrast_columns` on ``alignment`` and ``groups``.
+    alignment, groups
+        What the table was computed from (the logos are drawn from the rows of each group, weighted as
+        in the table: on the whole alignment).
+    top
+        Number of positions in the logos (the highest contrast, not gap-rich; drawn in column order).
+    path
+        Write the figure here (format by extension); None: only return it.
+    title
+        Figure title (default: the table's input file).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        Axes from top to bottom: helix bands, contrast along the frame (points coloured by class, the top
+        positions ringed), then one logo per kept group (information in bits, Schneider et al. 1986
+        small-sample correction).
+    """
+    from matplotlib.figure import Figure
+    from matplotlib.lines import Line2D
+
+    from globcons.core.alphabet import STANDARD
+    from globcons.plots.figures import (
+        _draw_helix_track,
+        _finish,
+        _helix_runs,
+        _stack_glyphs,
+        figure_format,
+        information_matrix,
+    )
+    from globcons.plots.palette import OKABE_ITO, tint
+
+    if path is not None:
+        figure_format(path)
+    meta = table.attrs
+    kept = list(meta["groups"])
+    chosen = top_contrast(table, top).sort_values("column")
+    columns = chosen["column"].to_numpy(dtype=np.int64)
+    labelled = table["frame_label"].astype(str) != ""
+    shown = table[labelled] if labelled.any() else table
+    labels = list(shown["frame_label"].astype(str)) if labelled.any() else [""] * len(shown)
+    x = np.arange(len(shown))
+    values = shown["contrast"].to_numpy(dtype=np.float64)
+
+    width = float(np.clip(2.5 + 0.07 * len(shown), 8.0, 22.0))
+    heights = [0.35, 2.4] + [1.25] * len(kept)
+    fig = Figure(figsize=(width, 1.2 + sum(heights)), layout="constrained")
+    grid = fig.add_gridspec(2 + len(kept), 1, height_ratios=heights)
+    helix_ax = fig.add_subplot(grid[0])
+    ax = fig.add_subplot(grid[1], sharex=helix_ax)
+    _draw_helix_track(helix_ax, labels)
+    for _, first, last in _helix_runs(labels):
+        ax.axvspan(first - 0.5, last + 0.5, facecolor=tint(OKABE_ITO["sky blue"], 0.88), linewidth=0, zorder=0)
+    ax.plot(x, np.nan_to_num(values), color=tint(OKABE_ITO["black"], 0.55), linewidth=0.8, zorder=1)
+    classes = shown["class"].astype(str).to_numpy()
+    for name in CONTRAST_CLASSES:
+        mask = classes == name
+        if mask.any():
+            ax.scatter(x[mask], np.nan_to_num(values[mask]), s=14, color=CLASS_MARKERS[name], edgecolors="none",
+                       zorder=3, label=f"{name} ({int(mask.sum())})")
+    where = np.flatnonzero(np.isin(shown["column"].to_numpy(), columns))
+    ax.scatter(x[where], values[where], s=60, facecolors="none", edgecolors=OKABE_ITO["black"], linewidths=0.8,
+               zorder=4)
+    ax.set_xlim(-0.7, len(shown) - 0.3)
+    ax.set_ylim(0.0, max(math.log2(max(len(kept), 2)), float(np.nanmax(values)) if np.isfinite(values).any() else 0.0)
+                * 1.05)
+    ax.set_ylabel("contrast (bits)\nJensen-Shannon divergence", fontsize=9)
+    from globcons.plots.figures import _position_axis
+
+    _position_axis(ax, shown, labels, bool(labelled.any()))
+    ax.spines[["top", "right"]].set_visible(False)
+    handles, names = ax.get_legend_handles_labels()
+    handles.append(Line2D([], [], marker="o", linestyle="none", markerfacecolor="none",
+                          markeredgecolor=OKABE_ITO["black"], markersize=7))
+    names.append(f"in the logos (top {len(columns)})")
+    ax.legend(handles, names, loc="upper left", bbox_to_anchor=(1.0, 1.0), fontsize=7, frameon=False)
+
+    if columns.size:
+        names_per_row = _labels_of(alignment, groups)
+        row_weights = compute_weights(alignment.codes, meta["weights"], meta.get("identity") or 0.8).values
+        index = {g: k for k, g in enumerate(kept)}
+        in_kept = np.array([n in index for n in names_per_row], dtype=bool)
+        counts = group_counts(np.ascontiguousarray(alignment.codes[in_kept][:, columns - 1]),
+                              np.array([index[n] for n in names_per_row[in_kept]], dtype=np.int64), len(kept),
+                              row_weights[in_kept])
+        ticks = [str(label) if label else str(column) for label, column in zip(chosen["frame_label"], columns)]
+        for k, group in enumerate(kept):
+            logo_ax = fig.add_subplot(grid[2 + k])
+            matrix = information_matrix(counts[k]).to_numpy()
+            _stack_glyphs(logo_ax, matrix, list(STANDARD))
+            logo_ax.set_xlim(-0.6, len(columns) - 0.4)
+            logo_ax.set_ylim(0.0, math.log2(N_STANDARD))
+            logo_ax.set_yticks([0, 2, 4])
+            logo_ax.set_ylabel(f"{group}\n(bits)", fontsize=8)
+            logo_ax.set_xticks(range(len(columns)), ticks if k == len(kept) - 1 else [""] * len(columns),
+                               fontsize=8)
+            logo_ax.spines[["top", "right"]].set_visible(False)
+        logo_ax.set_xlabel("top positions by contrast, in column order", fontsize=9)
+    source = meta.get("input")
+    heading = title if title is not None else (f"{os.path.basename(str(source))}: group contrast" if source
+                                               else "group contrast")
+    helix_ax.set_title(heading, fontsize=10, loc="left")
+    return _finish(fig, path, inputs)

@@ -1,0 +1,97 @@
+"""The figure commands, ``globcons logo`` and ``globcons profile``, registered on the main command group.
+
+Imported at the end of :mod:`globcons.cli`, once the group and its shared options exist.
+"""
+
+from __future__ import annotations
+
+import os
+
+import click
+
+from globcons.cli import (_alignment_argument, _common, _frame_options, _reader_options, _score_options, _scoring_options,
+                  cli)
+from globcons.analysis.columns import score_columns
+from globcons.errors import OptionError
+from globcons.plots.figures import FIGURE_FORMATS, PROFILE_SCORES, column_range, draw_logo, draw_profile, figure_format
+from globcons.io.readers import read_alignment
+from globcons.io.tables import check_not_input
+
+__all__ = ["logo", "profile"]
+
+_OUTPUT_HELP = f"Figure file; the format follows the extension ({', '.join(FIGURE_FORMATS)})."
+
+
+@cli.command()
+@_alignment_argument
+@click.option("-o", "--output", required=True, help=_OUTPUT_HELP)
+@click.option("--range", "label_range", default=None, metavar="FIRST-LAST",
+              help="Frame labels to draw, both ends included, e.g. F1-FG5 or E7.")
+@click.option("--columns", "column_spec", default=None, metavar="FIRST-LAST",
+              help="Alignment columns to draw (1-based, inclusive), e.g. 80-100.")
+@_frame_options
+@click.option("--title", default=None, help="Figure title (default: the file and the region).")
+@_reader_options
+@_scoring_options
+@_common
+def logo(alignment: str, output: str, label_range: str | None, column_spec: str | None, title: str | None,
+         fmt: str | None, keep_inserts: bool, reporter, **kw) -> None:
+    """Draw a weighted sequence logo of ALIGNMENT (all columns, or a --range / --columns region).
+
+    Letter heights are information in bits with the small-sample correction; gap-rich columns are
+    hatched bands without letters; the x axis carries the frame labels.
+    """
+    if label_range is not None and column_spec is not None:
+        raise click.UsageError("give --range or --columns, not both")
+    figure_format(output)
+    check_not_input(output, [alignment])
+    options = _score_options(kw)
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
+    table = score_columns(aligned, options)
+    if label_range is not None:
+        if not (table["frame_label"] != "").any():
+            raise OptionError(f"--range {label_range}: the alignment's columns have no frame labels; use --columns")
+        chosen = column_range(table, label_range, by="label")
+    elif column_spec is not None:
+        chosen = column_range(table, column_spec, by="column")
+    else:
+        chosen = list(table["column"].astype(int))
+    rows = table.set_index("column").loc[chosen]
+    labels = list(rows["frame_label"].astype(str))
+    region = label_range or (f"columns {column_spec}" if column_spec else "all columns")
+    heading = title if title is not None else f"{os.path.basename(str(alignment))}: {region}"
+    draw_logo(aligned, chosen, output, weights=options.weights, identity=options.identity, labels=labels,
+              max_gaps=options.rules.max_gaps, title=heading, inputs=[alignment])
+    gap_rich = int((rows["gap_fraction"] > options.rules.max_gaps).sum())
+    span = f"{labels[0] or chosen[0]}..{labels[-1] or chosen[-1]}"
+    reporter.info(f"logo of {len(chosen)} columns ({span}, {gap_rich} gap-rich) from {aligned.n_rows} sequences "
+                  f"({table.attrs['effective_sequences']:.1f} effective, {options.weights} weights); wrote {output}")
+
+
+@cli.command()
+@_alignment_argument
+@click.option("-o", "--output", required=True, help=_OUTPUT_HELP)
+@click.option("--score", type=click.Choice(tuple(PROFILE_SCORES)), default="entropy_norm", show_default=True,
+              help="Score to plot (entropy_norm is drawn as 1 - entropy_norm: up = more conserved).")
+@_frame_options
+@click.option("--title", default=None, help="Figure title (default: the file and the score).")
+@_reader_options
+@_scoring_options
+@_common
+def profile(alignment: str, output: str, score: str, title: str | None, fmt: str | None, keep_inserts: bool,
+            reporter, **kw) -> None:
+    """Draw a conservation score of ALIGNMENT along the frame positions.
+
+    Helices are labelled bands, markers are coloured by column class, functional sites are marked and named.
+    """
+    figure_format(output)
+    check_not_input(output, [alignment, kw.get("sites_path")])
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
+    table = score_columns(aligned, _score_options(kw))
+    draw_profile(table, output, score=score, title=title, inputs=[alignment, kw.get("sites_path")])
+    labelled = int((table["frame_label"] != "").sum())
+    shown = labelled or len(table)
+    n_sites = int((table.loc[table["frame_label"] != "", "sites"] != "").sum()) if labelled else \
+        int((table["sites"] != "").sum())
+    reporter.info(f"profile of {score} over {shown} {'frame positions' if labelled else 'columns'} "
+                  f"({n_sites} functional sites) from {aligned.n_rows} sequences; wrote {output}")

@@ -1,0 +1,1 @@
+"""Layer 2, input and output: reading alignments and sequences, writing alignments and tables."""

@@ -1,0 +1,277 @@
+"""Table output (tsv, csv, json, md, tex) and safe writing: atomic, never over an input.
+
+Regular files are written to a temporary file beside the target and renamed into place, so a failed or
+interrupted run never leaves a half-written file. Standard output, pipes and special files such as
+/dev/null are written directly and never replaced.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import json
+import math
+import os
+import stat
+import sys
+import tempfile
+from pathlib import Path
+from typing import IO, Iterable, Iterator, Mapping
+
+import numpy as np
+import pandas as pd
+
+from globcons.errors import OptionError, OutputError
+
+__all__ = ["TABLE_FORMATS", "atomic_output", "check_not_input", "format_table", "write_table", "table_format_for"]
+
+TABLE_FORMATS = ("tsv", "csv", "json", "md", "tex")
+FLOAT_DIGITS = 4
+
+
+def _same_file(a: str | os.PathLike, b: str | os.PathLike) -> bool:
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return os.path.abspath(a) == os.path.abspath(b)
+
+
+def check_not_input(path: str | os.PathLike, inputs: Iterable[str | os.PathLike | None]) -> None:
+    """Refuse an output path that is one of the inputs.
+
+    Raises
+    ------
+    OutputError
+        ``path`` names the same file as an input.
+    """
+    if str(path) == "-":
+        return
+    for source in inputs:
+        if source is None or str(source) == "-" or hasattr(source, "read"):
+            continue
+        if os.path.exists(source) and _same_file(path, source):
+            raise OutputError(f"output would overwrite the input {source}; choose another output path",
+                              source=str(path))
+
+
+@contextlib.contextmanager
+def atomic_output(path: str | os.PathLike | None, inputs: Iterable = (), binary: bool = False) -> Iterator[IO]:
+    """Open an output for writing, safely.
+
+    Parameters
+    ----------
+    path
+        A file path, or None / ``"-"`` for standard output.
+    inputs
+        Paths of the run's inputs: an output naming one of them is refused.
+    binary
+        Yield a binary stream instead of text.
+
+    Yields
+    ------
+    A stream; for a regular file, the content reaches ``path`` only when the block ends without error.
+    """
+    if path is None or str(path) == "-":
+        stream = sys.stdout.buffer if binary else sys.stdout
+        yield stream
+        stream.flush()
+        return
+    target = Path(path)
+    check_not_input(target, inputs)
+    if target.exists() and target.is_dir():
+        raise OutputError("is a folder; give a file name", source=str(target))
+    if target.exists() and not target.is_file():  # /dev/null, a FIFO: write through, never replace
+        with open(target, "wb" if binary else "w", encoding=None if binary else "utf-8") as stream:
+            yield stream
+        return
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise OutputError(f"folder {folder} does not exist", source=str(target))
+    try:
+        handle, temporary = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=".part")
+    except OSError as exc:
+        raise OutputError(f"cannot write in {folder} ({exc.strerror})", source=str(target)) from None
+    try:
+        with os.fdopen(handle, "wb" if binary else "w", encoding=None if binary else "utf-8", newline=None if binary else "") as stream:
+            yield stream
+            stream.flush()
+            os.fsync(stream.fileno())
+        os.chmod(temporary, _mode_for(target))
+        os.replace(temporary, target)
+    except BaseException as exc:
+        with contextlib.suppress(OSError):
+            os.unlink(temporary)
+        if isinstance(exc, OSError) and not isinstance(exc, (BrokenPipeError, FileNotFoundError)):
+            raise OutputError(f"cannot be written ({exc.strerror or exc}); nothing was left behind",
+                              source=str(target)) from exc
+        raise
+
+
+def _mode_for(target: Path) -> int:
+    if target.exists():
+        return stat.S_IMODE(target.stat().st_mode)
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
+
+
+def table_format_for(path: str | os.PathLike | None, requested: str | None) -> str:
+    """The table format: as requested, else from the output's extension, else tsv."""
+    if requested:
+        if requested not in TABLE_FORMATS:
+            raise OptionError(f"unknown table format {requested!r}; choose one of {', '.join(TABLE_FORMATS)}")
+        return requested
+    if path is not None and str(path) != "-":
+        suffix = Path(path).suffix.lower().lstrip(".")
+        if suffix in TABLE_FORMATS:
+            return suffix
+    return "tsv"
+
+
+def _text_cell(value: object) -> str:
+    if value is None or value is pd.NA:
+        return ""
+    if isinstance(value, (bool, np.bool_)):
+        return "yes" if value else "no"
+    if isinstance(value, (float, np.floating)):
+        if math.isnan(value):
+            return ""
+        text = f"{value:.{FLOAT_DIGITS}f}"
+        return "0.0000" if text == "-0.0000" else text
+    return str(value)
+
+
+def _text_rows(table: pd.DataFrame) -> list[list[str]]:
+    columns = [table[name].tolist() for name in table.columns]
+    return [[_text_cell(v) for v in row] for row in zip(*columns)] if len(table) else []
+
+
+def _json_cell(value: object) -> object:
+    if value is None or value is pd.NA:
+        return None
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        return None if math.isnan(value) else round(float(value), 6)
+    return str(value)
+
+
+def _tex_escape(text: str) -> str:
+    replacements = {"\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$", "#": r"\#", "_": r"\_",
+                    "{": r"\{", "}": r"\}", "~": r"\textasciitilde{}", "^": r"\textasciicircum{}"}
+    return "".join(replacements.get(c, c) for c in text)
+
+
+def _md_escape(text: str) -> str:
+    return text.replace("\\", "\\\\").replace("|", "\\|")
+
+
+def _delimited(table: pd.DataFrame, sep: str) -> str:
+    """tsv/csv through pandas' writer (fast on large tables), with the cell rules of :func:`_text_cell`."""
+    import csv
+
+    frame = table.copy()
+    for name in frame.columns:
+        column = frame[name]
+        if column.dtype == bool:
+            frame[name] = np.where(column, "yes", "no")
+        elif pd.api.types.is_float_dtype(column.dtype):
+            frame[name] = column.round(FLOAT_DIGITS) + 0.0  # no "-0.0000"
+        elif column.dtype == object:
+            frame[name] = column.map(_text_cell)
+    return frame.to_csv(sep=sep, index=False, float_format=f"%.{FLOAT_DIGITS}f", na_rep="", lineterminator="\n",
+                        quoting=csv.QUOTE_MINIMAL if sep == "," else csv.QUOTE_NONE, escapechar="\\")
+
+
+def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] | None = None,
+                 caption: str | None = None) -> str:
+    """Render a table as text.
+
+    Parameters
+    ----------
+    table
+        The table; its first row in every format is the header.
+    fmt
+        One of :data:`TABLE_FORMATS`.
+    metadata
+        Options and provenance: embedded in json (``"metadata"``), as ``%`` comments in tex and as a
+        closing note in md; tsv and csv carry none (see :func:`write_table`).
+    caption
+        Caption of the tex table.
+    """
+    if fmt == "tsv":
+        return _delimited(table, "\t")
+    if fmt == "csv":
+        return _delimited(table, ",")
+    if fmt == "json":
+        rows = [{name: _json_cell(v) for name, v in zip(table.columns, row)}
+                for row in zip(*(table[c].tolist() for c in table.columns))]
+        return json.dumps({"metadata": _plain(metadata or {}), "rows": rows}, indent=1, ensure_ascii=False) + "\n"
+    if fmt == "md":
+        header = "| " + " | ".join(_md_escape(str(c)) for c in table.columns) + " |"
+        rule = "|" + "|".join("---:" if pd.api.types.is_numeric_dtype(table[c]) and table[c].dtype != bool else "---"
+                              for c in table.columns) + "|"
+        body = ["| " + " | ".join(_md_escape(cell) for cell in row) + " |" for row in _text_rows(table)]
+        note = [] if not metadata else ["", "Options: " + _md_escape(_one_line(metadata))]
+        return "\n".join([header, rule, *body, *note]) + "\n"
+    if fmt == "tex":
+        spec = "".join("r" if pd.api.types.is_numeric_dtype(table[c]) and table[c].dtype != bool else "l"
+                       for c in table.columns)
+        lines = [f"% {line}" for line in json.dumps(_plain(metadata or {}), indent=1).splitlines()]
+        lines += [r"% needs \usepackage{booktabs,longtable}", rf"\begin{{longtable}}{{{spec}}}"]
+        if caption:
+            lines.append(rf"\caption{{{_tex_escape(caption)}}}\\")
+        header = " & ".join(_tex_escape(str(c)) for c in table.columns) + r" \\"
+        lines += [r"\toprule", header, r"\midrule", r"\endhead", r"\bottomrule", r"\endfoot"]
+        lines += [" & ".join(_tex_escape(cell) for cell in row) + r" \\" for row in _text_rows(table)]
+        lines.append(r"\end{longtable}")
+        return "\n".join(lines) + "\n"
+    raise OptionError(f"unknown table format {fmt!r}; choose one of {', '.join(TABLE_FORMATS)}")
+
+
+def _plain(value: object) -> object:
+    """JSON-ready copy of metadata (numpy scalars, tuples and mappings made plain)."""
+    if isinstance(value, Mapping):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_plain(v) for v in value]
+    return _json_cell(value) if isinstance(value, (np.generic, float, bool)) else value
+
+
+def _one_line(metadata: Mapping[str, object]) -> str:
+    parts = []
+    for key, value in metadata.items():
+        if isinstance(value, Mapping):
+            value = ", ".join(f"{k}={v}" for k, v in value.items())
+        parts.append(f"{key}: {value}")
+    return "; ".join(parts)
+
+
+def write_table(table: pd.DataFrame, path: str | os.PathLike | None, fmt: str | None = None,
+                metadata: Mapping[str, object] | None = None, inputs: Iterable = (),
+                caption: str | None = None, sidecar: bool = True) -> list[str]:
+    """Write a table atomically; a tsv or csv file also gets its metadata in ``<path>.meta.json``.
+
+    Returns
+    -------
+    list of str
+        The files written (empty when writing to standard output).
+    """
+    fmt = table_format_for(path, fmt)
+    text = format_table(table, fmt, metadata, caption)
+    inputs = list(inputs)
+    written = []
+    regular = path is not None and str(path) != "-" and not (Path(path).exists() and not Path(path).is_file())
+    meta_path = Path(f"{path}.meta.json") if (regular and sidecar and metadata and fmt in ("tsv", "csv")) else None
+    if meta_path is not None:
+        check_not_input(meta_path, inputs)
+    with atomic_output(path, inputs) as stream:
+        stream.write(text)
+    if regular:
+        written.append(str(path))
+    if meta_path is not None:
+        with atomic_output(meta_path, inputs) as stream:
+            stream.write(json.dumps(_plain(metadata), indent=1, ensure_ascii=False) + "\n")
+        written.append(str(meta_path))
+    return written

@@ -1,0 +1,1 @@
+"""Layer 6, mutations: notation, judging proposed mutations, ranking positions."""

@@ -1,0 +1,1 @@
+"""Layer 7, figures: palette, logos, the conservation profile, heat map."""

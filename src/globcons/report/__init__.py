@@ -1,0 +1,1 @@
+"""Layer 8, the offline report and its methods text."""

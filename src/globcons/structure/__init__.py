@@ -1,0 +1,1 @@
+"""Layer 7, structures: scores painted into B-factors."""
