@@ -5,7 +5,8 @@ import pytest
 from Bio.Align import substitution_matrices
 
 from globcons.core.alphabet import RESIDUE_LETTERS
-from globcons.core.classes import ClassRules, classify, compatible_pairs
+from globcons.core.classes import ClassRules, classify
+from globcons.core.matrices import compatible_pairs
 from globcons.core.counts import column_counts
 from globcons.errors import OptionError
 from globcons.core.scores import gap_fraction, residue_frequencies

@@ -22,14 +22,9 @@ from scipy.stats import chi2, chi2_contingency, entropy, kstest
 
 from globcons.core.alphabet import N_CODES
 from globcons.cli import main
-from globcons.analysis.contrast import (
-    CONTRAST_CLASSES,
-    assign_groups,
-    contrast_columns,
-    draw_contrast,
-    group_counts,
-    read_groups,
-)
+from globcons.analysis.contrast import assign_groups, contrast_columns, group_counts, read_groups
+from globcons.core.vocabulary import CONTRAST_CLASSES
+from globcons.plots.contrast import draw_contrast
 from globcons.core.counts import column_counts
 from globcons.errors import InputError, OptionError
 
@@ -247,7 +242,7 @@ def test_small_group_is_left_out_and_reported():
 @pytest.fixture(scope="module")
 def reference_frame():
     from globcons.frame.reference import reference_chains
-    from globcons.align.place import align_to_frame
+    from globcons.align.layout import align_to_frame
 
     chains = [(c.name, c.mature_sequence) for c in reference_chains()]
     return align_to_frame(chains, shuffles=0).to_alignment()

@@ -32,9 +32,11 @@ from globcons.core.classes import CLASSES
 from globcons.cli import main
 from globcons.demo import demo_alignment_path
 from globcons.errors import OptionError
-from globcons.plots.figures import (DEVIATION_ORDER, FIGURE_DPI, column_range, departure_matrix, draw_departure_heatmap,
-                              draw_logo, draw_profile, figure_format, information_matrix, logo_matrix, save_figure,
-                              small_sample_correction)
+from globcons.core.scores import small_sample_correction
+from globcons.plots.conservation import draw_profile
+from globcons.plots.heatmap import DEVIATION_ORDER, departure_matrix, draw_departure_heatmap
+from globcons.plots.logo import column_range, draw_logo, information_matrix, logo_matrix
+from globcons.plots.output import FIGURE_DPI, figure_format, save_figure
 from globcons.plots.palette import (ABSENT_COLOUR, CLASS_COLOURS, DEVIATION_COLOURS, GROUP_COLOURS, OKABE_ITO,
                               RESIDUE_COLOURS, TINTS, residue_colour, tint)
 

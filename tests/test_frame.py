@@ -185,10 +185,10 @@ def test_label_notation():
         assert not frame.is_label(bad)
     with pytest.raises(OptionError):
         frame.segment_of("X3")
-    assert [s for s in frame.frame_order() if frame.is_helix(s)] == list("ABCDEFGH")
+    assert [s for s in frame.FRAME_ORDER if frame.is_helix(s)] == list("ABCDEFGH")
     for corner in ("NA", "AB", "CD", "CE", "EF", "FG", "GH", "HC"):
         assert not frame.is_helix(corner)
-    assert frame.frame_order() == ("NA", "A", "AB", "B", "C", "CD", "CE", "D", "E", "EF", "F",
+    assert frame.FRAME_ORDER == ("NA", "A", "AB", "B", "C", "CD", "CE", "D", "E", "EF", "F",
                                    "FG", "G", "GH", "H", "HC")
 
 

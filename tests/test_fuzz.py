@@ -7,7 +7,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from globcons.errors import GlobconsError
-from globcons.io.readers import read_sequences, stream_records
+from globcons.io.records import read_sequences, stream_records
 from globcons.mutations.notation import parse_mutation, parse_mutation_list
 
 SETTINGS = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
@@ -60,7 +60,7 @@ STRUCTURE_PIECES = st.lists(st.sampled_from([
 @settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(STRUCTURE_PIECES)
 def test_structure_reader_on_structure_like_text(tmp_path, pieces):
-    from globcons.structure.paint import chain_residues, read_structure
+    from globcons.structure.read import chain_residues, read_structure
 
     path = tmp_path / "fuzz.pdb"
     path.write_text("".join(pieces), encoding="utf-8")
@@ -78,7 +78,7 @@ def test_structure_reader_on_structure_like_text(tmp_path, pieces):
 @given(st.lists(st.sampled_from(["label", "column", "role", "kind", "\t", "\n", "F8", "CE1", "12", "0", "x",
                                  "#", "all", "human_hemoglobin_alpha", ","]), max_size=20))
 def test_site_table_reader_on_arbitrary_text(tmp_path, pieces):
-    from globcons.frame.reference import sites
+    from globcons.frame.sites import sites
 
     path = tmp_path / "sites.tsv"
     path.write_text("".join(pieces), encoding="utf-8")
@@ -93,7 +93,7 @@ def test_site_table_reader_on_arbitrary_text(tmp_path, pieces):
                 max_size=20))
 def test_groups_and_label_tables_on_arbitrary_text(tmp_path, pieces):
     from globcons.analysis.contrast import read_groups
-    from globcons.align.anchor import read_label_sidecar
+    from globcons.io.frame_labels import read_label_sidecar
 
     path = tmp_path / "table.tsv"
     path.write_text("".join(pieces), encoding="utf-8")

@@ -17,7 +17,9 @@ import numpy as np
 import pytest
 
 from globcons.errors import InputError, InputWarning
-from globcons.io.readers import parse_alignment, read_alignment, read_sequences, sniff_format
+from globcons.io.alignments import parse_alignment, read_alignment
+from globcons.io.records import read_sequences
+from globcons.io.sniff import sniff_format
 
 # The code table of the module docstring, typed out by hand (independent of globcons.core.alphabet).
 _HAND_CODES = {letter: code for code, letter in enumerate("ACDEFGHIKLMNPQRSTVWY")}

@@ -12,7 +12,9 @@ from globcons.cli import main
 from globcons.errors import OptionError
 from globcons.analysis.family import family_from_alignment
 from globcons.frame.reference import reference_chain
-from globcons.mutations.judge import CAUTION, check, prepare_target, rank_sites
+from globcons.core.vocabulary import CAUTION
+from globcons.mutations.judge import check, rank_sites
+from globcons.mutations.target import prepare_target
 
 from helpers import planted_family
 

@@ -5,7 +5,7 @@ import os
 import pytest
 
 from globcons.demo import run_demo
-from globcons.io.tables import atomic_output
+from globcons.io.atomic import atomic_output
 
 
 def test_interrupted_write_leaves_neither_the_file_nor_a_temporary(tmp_path):

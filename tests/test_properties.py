@@ -26,7 +26,7 @@ import globcons
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import encode
 from globcons.errors import GlobconsError
-from globcons.io.readers import parse_alignment
+from globcons.io.alignments import parse_alignment
 
 SETTINGS = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 

@@ -12,7 +12,7 @@ from globcons import read_alignment
 from globcons.core.alignment import Alignment
 from globcons.cli import main
 from globcons.demo import demo_alignment_path
-from globcons.report.writer import write_report
+from globcons.report.html import write_report
 
 CHROMIUM_FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                   "--disable-background-networking", "--disable-component-update", "--disable-sync"]
@@ -48,7 +48,7 @@ def test_methods_text_follows_the_options(tmp_path):
     methods = (tmp_path / "methods.md").read_text()
     assert "Henikoff and Henikoff 1994" in methods and "gap fraction above 0.5" in methods
     assert "Capra JA, Singh M (2007)" in methods
-    from globcons.analysis.columns import ScoreOptions
+    from globcons.analysis.options import ScoreOptions
     from globcons.core.classes import ClassRules
 
     other = tmp_path / "other"

@@ -17,11 +17,13 @@ import pytest
 
 from globcons import read_alignment, score_columns
 from globcons.cli import main
-from globcons.analysis.columns import ScoreOptions
+from globcons.analysis.options import ScoreOptions
 from globcons.errors import InputError, OptionError
-from globcons.io.readers import _parse_fasta_rows, parse_alignment
+from globcons.io.alignments import parse_alignment
+from globcons.io.fasta import parse_fasta_rows
 from globcons.analysis import streaming
-from globcons.analysis.streaming import plan_reading, record_chunks, stream_columns
+from globcons.analysis.streaming import plan_reading, stream_columns
+from globcons.io.chunks import record_chunks
 
 _LETTERS = "ACDEFGHIKLMNPQRSTVWY"
 _HAND_CODES = {letter: code for code, letter in enumerate(_LETTERS)}
@@ -74,7 +76,7 @@ def test_fast_path_equals_a_plain_record_parser(name, tmp_path):
         assert list(alignment.descriptions) == descriptions
         assert alignment.codes.tolist() == rows
     # Slices of a few bytes (every line its own slice) change nothing either.
-    sliced = _parse_fasta_rows(data, "x.fasta", a2m=False, keep_inserts=False, slice_bytes=3)
+    sliced = parse_fasta_rows(data, "x.fasta", a2m=False, keep_inserts=False, slice_bytes=3)
     assert sliced[0] == ids and sliced[1] == descriptions
     assert np.where(sliced[2] == 252, 22, sliced[2]).tolist() == rows
 
@@ -84,7 +86,7 @@ def test_sliced_fast_path_reports_the_same_errors():
         messages = []
         for slice_bytes in (2, 5, 1 << 20):
             with pytest.raises(InputError) as caught:
-                _parse_fasta_rows(data, "x.fasta", False, False, slice_bytes=slice_bytes)
+                parse_fasta_rows(data, "x.fasta", False, False, slice_bytes=slice_bytes)
             messages.append(str(caught.value))
         assert len(set(messages)) == 1, messages
 

@@ -25,9 +25,9 @@ from globcons.analysis.columns import score_columns
 from globcons.demo import demo_alignment_path
 from globcons.errors import InputError, InputWarning, OptionError
 from globcons.frame.reference import reference_chain
-from globcons.io.readers import read_alignment
-from globcons.structure.paint import (SCORES, SENTINEL, chain_residues, map_chain_to_alignment, mapping_stats,
-                                paint_structure, read_structure, score_values)
+from globcons.io.alignments import read_alignment
+from globcons.structure.paint import SCORES, SENTINEL, map_chain_to_alignment, mapping_stats, paint_structure, score_values
+from globcons.structure.read import chain_residues, read_structure
 
 FIRST = 81  # residue number of the first Trp
 LEADING = "WWWW"

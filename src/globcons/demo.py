@@ -17,7 +17,8 @@ import pandas as pd
 
 from globcons.analysis.columns import score_columns, summarise
 from globcons.errors import OutputError
-from globcons.io.readers import read_alignment, read_sequences
+from globcons.io.alignments import read_alignment
+from globcons.io.records import read_sequences
 from globcons.io.tables import write_table
 
 __all__ = ["demo_alignment_path", "demo_file", "DemoResult", "run_demo"]
@@ -70,10 +71,12 @@ def run_demo(out_dir: str | os.PathLike = "globcons-demo", full: bool = True) ->
         return DemoResult(table, summarise(table), tuple(files))
 
     from globcons.analysis.family import family_from_alignment
-    from globcons.mutations.judge import CAUTION, check, prepare_target
-    from globcons.mutations.notation import read_mutation_file
-    from globcons.report.writer import write_report
     from globcons.analysis.scan import scan
+    from globcons.core.vocabulary import CAUTION
+    from globcons.mutations.judge import check
+    from globcons.mutations.notation import read_mutation_file
+    from globcons.mutations.target import prepare_target
+    from globcons.report.html import write_report
 
     family = family_from_alignment(alignment, labels=tuple(table["frame_label"]))
     queries = [(r.id, r.sequence) for r in read_sequences(demo_file("demo_queries.fasta"))]

@@ -21,7 +21,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from globcons.core.alphabet import GAP, encode
-from globcons.frame.reference import FRAME_ORDER, HELICES, ReferenceChain, is_helix, reference_chains, segment_of
+from globcons.core.labels import HELICES, is_helix, label_key, segment_of
+from globcons.core.matrices import DEFAULT_MATRIX, load_matrix
+from globcons.frame.reference import ReferenceChain, reference_chains
 
 __all__ = ["FrameColumn", "ReferenceAlignment", "reference_alignment"]
 
@@ -86,7 +88,7 @@ class ReferenceAlignment:
 
     def column_of(self, label: str) -> int:
         """Index of the column with canonical ``label``; -1 if the frame has no such column."""
-        return self._label_index().get(label, -1)
+        return self._column_index.get(label, -1)
 
     def chain_index(self, name: str) -> int:
         return [chain.name for chain in self.chains].index(name)
@@ -117,34 +119,24 @@ class ReferenceAlignment:
         return tuple(masks)
 
     @functools.cached_property
-    def _labels_by_key(self) -> dict[str, int]:
+    def _column_index(self) -> dict[str, int]:
         return {column.label: column.index for column in self.columns}
-
-    def _label_index(self) -> dict[str, int]:
-        return self._labels_by_key
-
-
-def _key(label: str) -> tuple[int, int]:
-    segment = segment_of(label)
-    return FRAME_ORDER.index(segment), int(label[len(segment):])
 
 
 def _alpha_ce_placement(alpha: ReferenceChain, beta: ReferenceChain) -> dict[str, str]:
     """Alpha CE label -> the CD/D label of the beta residue it aligns to (from a pairwise alignment)."""
     from Bio.Align import PairwiseAligner
 
-    from globcons.core.classes import load_matrix
-
     ce = [i for i, label in enumerate(alpha.labels) if segment_of(label) == "CE"]
     target = [i for i, label in enumerate(beta.labels) if segment_of(label) in _CE_TARGET_SEGMENTS]
     if not ce:
         return {}
-    aligner = PairwiseAligner(mode="global", substitution_matrix=load_matrix("BLOSUM62"),
+    aligner = PairwiseAligner(mode="global", substitution_matrix=load_matrix(DEFAULT_MATRIX),
                               open_gap_score=_CE_ALIGNMENT_GAPS[0], extend_gap_score=_CE_ALIGNMENT_GAPS[1])
     alignment = aligner.align("".join(alpha.mature_sequence[i] for i in ce),
                               "".join(beta.mature_sequence[i] for i in target))[0]
     placement = {}
-    for alpha_index, beta_index in zip(*alignment.indices):
+    for alpha_index, beta_index in zip(*alignment.indices, strict=True):
         if alpha_index >= 0 and beta_index >= 0:
             placement[alpha.labels[ce[alpha_index]]] = beta.labels[target[beta_index]]
     return placement
@@ -165,11 +157,11 @@ def reference_alignment() -> ReferenceAlignment:
                 raise ValueError(f"alpha residue {label} has no place on the CD/D columns")  # data invariant
             mapping[canonical] = position
         placed.append(mapping)
-    keys = sorted({label for mapping in placed for label in mapping}, key=_key)
-    columns = tuple(FrameColumn(i, label, segment_of(label), _key(label)[1]) for i, label in enumerate(keys))
+    keys = sorted({label for mapping in placed for label in mapping}, key=label_key)
+    columns = tuple(FrameColumn(i, label, segment_of(label), label_key(label)[1]) for i, label in enumerate(keys))
     positions = np.zeros((len(chains), len(columns)), dtype=np.int64)
     codes = np.full((len(chains), len(columns)), GAP, dtype=np.uint8)
-    for row, (chain, mapping) in enumerate(zip(chains, placed)):
+    for row, (chain, mapping) in enumerate(zip(chains, placed, strict=True)):
         for column, label in enumerate(keys):
             if label in mapping:
                 positions[row, column] = mapping[label]

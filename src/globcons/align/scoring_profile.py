@@ -18,13 +18,31 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from globcons.core.alphabet import GAP, MATRIX_STAND_IN, N_CODES, N_RESIDUES, RESIDUE_LETTERS, UNKNOWN
-from globcons.core.counts import column_counts
 from globcons.align.dp import GapCosts
+from globcons.align.reference import reference_alignment
+from globcons.core.alphabet import GAP, UNKNOWN, encode
+from globcons.core.counts import column_counts
+from globcons.core.matrices import DEFAULT_MATRIX, substitution_table
+from globcons.core.scores import occupancy as column_occupancy
 from globcons.core.scores import residue_frequencies
 from globcons.core.weights import henikoff_weights
 
-__all__ = ["GapScheme", "Profile", "frame_profile", "profile_from_counts", "substitution_table"]
+__all__ = ["GapScheme", "Profile", "frame_profile", "profile_from_counts", "query_codes"]
+
+#: A column that most of the family lacks costs at least this share of the gapped costs to delete: a
+#: column no sequence has still costs something, so the aligner does not skip columns for nothing.
+MIN_OCCUPANCY_SCALE = 0.1
+#: Score of a gap code in a profile column: queries hold no gaps, and the aligner wants finite scores.
+GAP_SCORE = -1000.0
+#: Occupancy below 1 by more than this counts as a column some sequences lack.
+_OCCUPANCY_TOLERANCE = 1e-9
+
+
+def query_codes(sequence: str) -> np.ndarray:
+    """Codes of a query sequence for placement: residues as themselves, anything else (stops, gaps, odd bytes) unknown."""
+    codes = encode(sequence).copy()
+    codes[codes >= GAP] = UNKNOWN
+    return codes
 
 
 @dataclass(frozen=True)
@@ -62,9 +80,9 @@ class GapScheme:
         in_helix = np.asarray(in_helix, dtype=bool)
         n = in_helix.size
         occupancy = np.ones(n) if occupancy is None else np.asarray(occupancy, dtype=np.float64)
-        gapped = occupancy < 1.0 - 1e-9
+        gapped = occupancy < 1.0 - _OCCUPANCY_TOLERANCE
         # Deleting a column that most of the family lacks should cost almost nothing: scale by occupancy.
-        scale = np.clip(occupancy, 0.1, 1.0)
+        scale = np.clip(occupancy, MIN_OCCUPANCY_SCALE, 1.0)
         open_delete = np.where(gapped, self.gapped_open * scale, np.where(in_helix, self.helix_open, self.loop_open))
         extend_delete = np.where(gapped, self.gapped_extend * scale,
                                  np.where(in_helix, self.helix_extend, self.loop_extend))
@@ -79,26 +97,6 @@ class GapScheme:
         extend_insert = np.where(near_gapped, self.gapped_extend,
                                  np.where(same_helix, self.helix_extend, self.loop_extend))
         return GapCosts(open_delete, extend_delete, open_insert, extend_insert)
-
-
-@functools.lru_cache(maxsize=None)
-def substitution_table(matrix: str = "BLOSUM62") -> np.ndarray:
-    """(22, 24) scores of residue code a (rows) against every code b (columns), as floats.
-
-    U and O score as C and K; unknown (X) takes the matrix's X entry where it has one, else -1; a gap
-    scores -inf (queries never hold gaps).
-    """
-    from globcons.core.classes import load_matrix
-
-    scores = load_matrix(matrix)
-    letters = [MATRIX_STAND_IN.get(c, c) for c in RESIDUE_LETTERS]
-    table = np.full((N_RESIDUES, N_CODES), -np.inf)
-    for i, a in enumerate(letters):
-        for j, b in enumerate(letters):
-            table[i, j] = scores[a][b]
-        table[i, UNKNOWN] = scores[a]["X"] if "X" in scores.alphabet else -1.0
-    table.flags.writeable = False
-    return table
 
 
 @dataclass(frozen=True, eq=False)
@@ -134,16 +132,15 @@ class Profile:
 
 
 def profile_from_counts(name: str, counts: np.ndarray, labels: tuple[str, ...], segments: tuple[str, ...],
-                        in_helix: np.ndarray, matrix: str = "BLOSUM62",
+                        in_helix: np.ndarray, matrix: str = DEFAULT_MATRIX,
                         gap_scheme: GapScheme = GapScheme()) -> Profile:
     """A profile from weighted per-column counts (as from :func:`globcons.core.counts.column_counts`)."""
     frequencies = residue_frequencies(counts)
-    total = counts.sum(axis=1)
-    occupancy = np.where(total > 0, counts[:, :N_RESIDUES].sum(axis=1) / np.where(total > 0, total, 1.0), 0.0)
+    occupancy = column_occupancy(counts)
     table = substitution_table(matrix)
     # Rows with a gap contribute nothing to a column's score: a column few sequences have counts less.
     scores = (frequencies @ np.where(np.isfinite(table), table, 0.0)) * occupancy[:, None]
-    scores[:, GAP] = -1000.0  # queries hold no gaps; the aligner wants finite scores
+    scores[:, GAP] = GAP_SCORE
     frequencies.flags.writeable = False
     scores.flags.writeable = False
     return Profile(name, tuple(labels), tuple(segments), frequencies, scores,
@@ -151,10 +148,8 @@ def profile_from_counts(name: str, counts: np.ndarray, labels: tuple[str, ...], 
 
 
 @functools.lru_cache(maxsize=None)
-def frame_profile(matrix: str = "BLOSUM62", gap_scheme: GapScheme = GapScheme()) -> Profile:
+def frame_profile(matrix: str = DEFAULT_MATRIX, gap_scheme: GapScheme = GapScheme()) -> Profile:
     """The built-in profile: the frame's reference alignment, Henikoff-weighted."""
-    from globcons.align.reference import reference_alignment
-
     reference = reference_alignment()
     weights = henikoff_weights(reference.codes)
     counts = column_counts(reference.codes, weights)

@@ -53,27 +53,27 @@ import math
 import os
 import re
 import warnings
-from pathlib import Path
+from dataclasses import dataclass
 from typing import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
-from scipy.stats import chi2
 
 from globcons._version import __version__
+from globcons.align.anchor import ColumnMapping, map_columns
+from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alignment import Alignment
-from globcons.core.alphabet import CODE_LETTERS, GAP, N_CODES, N_RESIDUES, N_STANDARD, decode
+from globcons.core.alphabet import N_CODES, N_RESIDUES, decode
 from globcons.core.classes import ClassRules
-from globcons.errors import InputError, InputWarning, OptionError
-from globcons.align.anchor import ColumnMapping, column_sites, map_columns
+from globcons.core.scores import consensus, entropy_norm, gap_fraction, shannon_entropy
+from globcons.core.vocabulary import CONTRAST_CLASSES
 from globcons.core.weights import compute_weights
+from globcons.errors import InputError, InputWarning, OptionError
+from globcons.frame.sites import column_sites
+from globcons.io.opening import read_text
 
 __all__ = ["CONTRAST_CLASSES", "NEAREST_GROUPS", "assign_groups", "read_groups", "contrast_columns",
-           "group_counts", "permutation_pvalues", "summarise_contrast", "top_contrast", "draw_contrast",
-           "CLASS_MARKERS"]
-
-#: The classes of a contrast table (a contract: scripts rely on these words).
-CONTRAST_CLASSES = ("group-specific", "shared", "mixed", "gap-rich")
+           "group_counts", "group_labels", "permutation_pvalues", "summarise_contrast", "top_contrast"]
 
 #: Group of each reference chain for ``--group-by nearest`` (rows that do not place as globins: ``other``).
 NEAREST_GROUPS: dict[str, str] = {
@@ -87,6 +87,10 @@ _HEADER_WORDS = {"id", "ids", "sequence", "sequence_id", "seq_id", "name", "iden
 _TOLERANCE = 1e-9
 #: Upper bound of the (permutations x rows x columns) index array of one permutation block.
 _BLOCK_ELEMENTS = 4_000_000
+#: Default share of a group's residue weight its consensus needs for the group to count as conserved.
+CONSERVED_MIN = 0.8
+#: Default smallest effective size of a group that is kept.
+MIN_GROUP_NEFF = 3.0
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -106,10 +110,7 @@ def read_groups(path: str | os.PathLike) -> dict[str, str]:
         given two different groups.
     """
     source = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the groups table ({exc})", source=source) from None
+    text = read_text(path, "groups table")
     groups: dict[str, str] = {}
     first = True
     for number, raw in enumerate(text.splitlines(), start=1):
@@ -150,18 +151,18 @@ def _groups_by_regex(ids: Sequence[str], pattern: str) -> np.ndarray:
 
 
 def _groups_by_nearest(alignment: Alignment, shuffles: int) -> np.ndarray:
-    from globcons.align.place import place_many
+    from globcons.align.place import place_many  # placement is only needed for this grouping
 
     result = np.full(alignment.n_rows, "", dtype=object)
     rows = [i for i in range(alignment.n_rows) if (alignment.codes[i] < N_RESIDUES).any()]
     records = [(alignment.ids[i], decode(alignment.codes[i]).replace("-", "")) for i in rows]
-    for row, placed in zip(rows, place_many(records, shuffles=shuffles)):
+    for row, placed in zip(rows, place_many(records, shuffles=shuffles), strict=True):
         result[row] = NEAREST_GROUPS.get(placed.nearest_reference, "other") if placed.is_globin else "other"
     return result
 
 
 def assign_groups(alignment: Alignment, groups_file: str | os.PathLike | None = None,
-                  group_by: str | None = None, shuffles: int = 12) -> np.ndarray:
+                  group_by: str | None = None, shuffles: int = DEFAULT_SHUFFLES) -> np.ndarray:
     """The group of every row of an alignment.
 
     Parameters
@@ -257,13 +258,15 @@ def _g_statistic(residues: np.ndarray) -> np.ndarray:
     return np.maximum(2.0 * value, 0.0)
 
 
-def _entropy_bits(p: np.ndarray, axis: int = -1) -> np.ndarray:
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return -np.where(p > 0, p * np.log2(np.where(p > 0, p, 1.0)), 0.0).sum(axis=axis)
+def _entropy_or_zero(p: np.ndarray) -> np.ndarray:
+    """Shannon entropy along the last axis, 0 (not NaN) for an all-zero row: absent groups weigh 0 anyway."""
+    return np.nan_to_num(shannon_entropy(p), nan=0.0)
 
 
 def _contrast_scores(residues: np.ndarray, group_sizes: np.ndarray) -> dict[str, np.ndarray]:
     """Scores of every column from the (g, L, R) residue counts and the groups' effective sizes."""
+    from scipy.stats import chi2  # the chi-square tail, only needed here
+
     n_k = residues.sum(axis=2)  # (g, L)
     total = n_k.sum(axis=0)  # (L,)
     present = n_k > 0
@@ -272,7 +275,7 @@ def _contrast_scores(residues: np.ndarray, group_sizes: np.ndarray) -> dict[str,
     pi = np.where(present, group_sizes[:, None], 0.0)
     pi = pi / np.where(pi.sum(axis=0) > 0, pi.sum(axis=0), 1.0)
     mixture = (pi[:, :, None] * p).sum(axis=0)
-    contrast = _entropy_bits(mixture) - (pi * _entropy_bits(p)).sum(axis=0)
+    contrast = _entropy_or_zero(mixture) - (pi * _entropy_or_zero(p)).sum(axis=0)
     contrast = np.maximum(contrast, 0.0)
 
     g_stat = _g_statistic(residues)
@@ -339,23 +342,13 @@ def permutation_pvalues(codes: np.ndarray, labels: np.ndarray, n_groups: int, we
     return pvalues
 
 
-def _consensus(residues: np.ndarray) -> np.ndarray:
-    """(g, L, R) -> (g, L) object array of letters, '-' where a group has no residue."""
-    letters = np.array(list(CODE_LETTERS[:N_RESIDUES]), dtype=object)[residues.argmax(axis=2)]
-    letters[residues.max(axis=2) <= 0] = "-"
-    return letters
-
-
 def _conservation(residues: np.ndarray) -> np.ndarray:
-    standard = residues[..., :N_STANDARD]
-    n = standard.sum(axis=-1)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        p = standard / np.where(n > 0, n, 1.0)[..., None]
-    value = 1.0 - _entropy_bits(p) / math.log2(N_STANDARD)
-    return np.where(n > 0, np.clip(value, 0.0, 1.0), np.nan)
+    """1 - normalised entropy over the 20 standard residues, per group and column; NaN where a group has none."""
+    return np.clip(1.0 - entropy_norm(residues), 0.0, 1.0)
 
 
-def _labels_of(alignment: Alignment, groups) -> np.ndarray:
+def group_labels(alignment: Alignment, groups) -> np.ndarray:
+    """The group name of every row (``""`` for none), from a sequence of names or a mapping id -> group."""
     if isinstance(groups, Mapping):
         return np.array([str(groups.get(identifier, "") or "") for identifier in alignment.ids], dtype=object)
     labels = np.array(["" if g is None else str(g) for g in groups], dtype=object)
@@ -364,10 +357,84 @@ def _labels_of(alignment: Alignment, groups) -> np.ndarray:
     return labels
 
 
+@dataclass(frozen=True, eq=False)
+class GroupedRows:
+    """The rows of the groups kept for a contrast: their codes, group index and weights.
+
+    Attributes
+    ----------
+    kept
+        Names of the groups kept (effective size at least the minimum), sorted.
+    sizes
+        Every group's ``rows`` and ``effective_size`` (kept or not).
+    in_kept
+        (N,) bool: the row belongs to a kept group.
+    codes, labels, weights
+        Codes (n, L), group index (n,) and weight (n,) of the rows of the kept groups.
+    """
+
+    kept: tuple[str, ...]
+    sizes: dict[str, dict[str, float]]
+    in_kept: np.ndarray
+    codes: np.ndarray
+    labels: np.ndarray
+    weights: np.ndarray
+
+    @property
+    def effective_sizes(self) -> np.ndarray:
+        return np.array([self.sizes[g]["effective_size"] for g in self.kept])
+
+    @classmethod
+    def of(cls, alignment: Alignment, names: np.ndarray, row_weights: np.ndarray,
+           min_group_neff: float) -> GroupedRows:
+        """Group the rows; refuse fewer than two groups of at least ``min_group_neff``."""
+        all_groups = sorted(set(names) - {""})
+        sizes = {g: {"rows": int((names == g).sum()),
+                     "effective_size": round(float(row_weights[names == g].sum()), 6)} for g in all_groups}
+        kept = tuple(g for g in all_groups if sizes[g]["effective_size"] >= min_group_neff - _TOLERANCE)
+        if len(kept) < 2:
+            have = ", ".join(f"{g} ({v['effective_size']:.1f})" for g, v in sizes.items()) or "none"
+            raise OptionError(f"need at least two groups with an effective size of at least {min_group_neff:g}; "
+                              f"have {have}")
+        index = {g: k for k, g in enumerate(kept)}
+        in_kept = np.array([name in index for name in names], dtype=bool)
+        labels = np.array([index[name] for name in names[in_kept]], dtype=np.int64)
+        return cls(kept, sizes, in_kept, np.ascontiguousarray(alignment.codes[in_kept]), labels,
+                   row_weights[in_kept])
+
+
+def _contrast_classes(counts: np.ndarray, n_k: np.ndarray, group_consensus: np.ndarray, gaps: np.ndarray,
+                      max_gaps: float, conserved_min: float) -> np.ndarray:
+    """The class of every column (see the module notes) from the (g, L, N_CODES) counts."""
+    residues = counts[..., :N_RESIDUES]
+    group_total = counts.sum(axis=2)
+    group_gaps = np.where(group_total > 0, gap_fraction(counts), 1.0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        top_share = np.where(n_k > 0, residues.max(axis=2) / np.where(n_k > 0, n_k, 1), 0.0)
+    conserved = (top_share >= conserved_min - _TOLERANCE) & (group_gaps <= max_gaps + _TOLERANCE)
+    all_conserved = conserved.all(axis=0)
+    same = (group_consensus == group_consensus[0:1]).all(axis=0)
+    classes = np.full(gaps.size, "mixed", dtype=object)
+    classes[all_conserved & same] = "shared"
+    classes[all_conserved & ~same] = "group-specific"
+    classes[gaps > max_gaps + _TOLERANCE] = "gap-rich"
+    return classes
+
+
+_SCORE_WORDS = {
+    "contrast": "generalised Jensen-Shannon divergence of the group residue distributions, weighted by group "
+                "effective size (bits; Lin 1991)",
+    "mi": "mutual information of residue and group, Miller-Madow corrected (bits; Shannon 1948, Miller 1955)",
+    "pvalue": "G-test of independence, chi-square with (r-1)(g-1) df",
+    "pvalue_permutation": "(1 + #permuted G >= observed G) / (1 + K)",
+}
+
+
 def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mapping[str, str] | np.ndarray,
-                     weights: str = "henikoff", identity: float = 0.8, min_group_neff: float = 3.0,
+                     weights: str = "henikoff", identity: float = 0.8, min_group_neff: float = MIN_GROUP_NEFF,
                      permutations: int = 0, seed: int = 0, rules: ClassRules = ClassRules(),
-                     conserved_min: float = 0.8, reference: str | None = None, frame: bool = True) -> pd.DataFrame:
+                     conserved_min: float = CONSERVED_MIN, reference: str | None = None,
+                     frame: bool = True) -> pd.DataFrame:
     """Score every column for how it sets groups of rows apart (see the module notes for every definition).
 
     Parameters
@@ -413,46 +480,17 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
         raise OptionError(f"--permutations must not be negative, got {permutations}")
     if not 0.0 < conserved_min <= 1.0:
         raise OptionError(f"--conserved-min must be in (0, 1], got {conserved_min}")
-    names = _labels_of(alignment, groups)
+    names = group_labels(alignment, groups)
     row_weights = compute_weights(alignment.codes, weights, identity).values
-    all_groups = sorted(set(names) - {""})
-    sizes = {g: {"rows": int((names == g).sum()), "effective_size": round(float(row_weights[names == g].sum()), 6)}
-             for g in all_groups}
-    kept = [g for g in all_groups if sizes[g]["effective_size"] >= min_group_neff - _TOLERANCE]
-    left_out = {g: sizes[g] for g in all_groups if g not in kept}
-    if len(kept) < 2:
-        have = ", ".join(f"{g} ({v['effective_size']:.1f})" for g, v in sizes.items()) or "none"
-        raise OptionError(f"need at least two groups with an effective size of at least {min_group_neff:g}; "
-                          f"have {have}")
-    index = {g: k for k, g in enumerate(kept)}
-    in_kept = np.array([name in index for name in names], dtype=bool)
-    codes = np.ascontiguousarray(alignment.codes[in_kept])
-    labels = np.array([index[name] for name in names[in_kept]], dtype=np.int64)
-    w = row_weights[in_kept]
-    counts = group_counts(codes, labels, len(kept), w)  # (g, L, N_CODES)
+    grouped = GroupedRows.of(alignment, names, row_weights, min_group_neff)
+    counts = group_counts(grouped.codes, grouped.labels, len(grouped.kept), grouped.weights)  # (g, L, N_CODES)
     residues = counts[..., :N_RESIDUES]
-    scores = _contrast_scores(residues, np.array([sizes[g]["effective_size"] for g in kept]))
-
-    column_total = counts.sum(axis=(0, 2))
-    gaps = np.where(column_total > 0, counts[..., GAP].sum(axis=0) / np.where(column_total > 0, column_total, 1), 0.0)
-    group_total = counts.sum(axis=2)
-    group_gaps = np.where(group_total > 0, counts[..., GAP] / np.where(group_total > 0, group_total, 1), 1.0)
-    consensus = _consensus(residues)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        top_share = np.where(scores["n_k"] > 0, residues.max(axis=2) / np.where(scores["n_k"] > 0, scores["n_k"], 1), 0.0)
-    conserved = (top_share >= conserved_min - _TOLERANCE) & (group_gaps <= rules.max_gaps + _TOLERANCE)
-    all_conserved = conserved.all(axis=0)
-    same = (consensus == consensus[0:1]).all(axis=0)
-    classes = np.full(alignment.n_columns, "mixed", dtype=object)
-    classes[all_conserved & same] = "shared"
-    classes[all_conserved & ~same] = "group-specific"
-    classes[gaps > rules.max_gaps + _TOLERANCE] = "gap-rich"
-
-    if frame:
-        source = alignment.source if Path(alignment.source).is_file() else None
-        mapping = map_columns(alignment, anchor=reference, source_path=source)
-    else:
-        mapping = ColumnMapping(("",) * alignment.n_columns, "none", note="frame mapping switched off")
+    scores = _contrast_scores(residues, grouped.effective_sizes)
+    gaps = gap_fraction(counts.sum(axis=0))
+    group_consensus = consensus(residues)
+    classes = _contrast_classes(counts, scores["n_k"], group_consensus, gaps, rules.max_gaps, conserved_min)
+    mapping = (map_columns(alignment, anchor=reference) if frame else
+               ColumnMapping(("",) * alignment.n_columns, "none", note="frame mapping switched off"))
     data: dict[str, object] = {
         "column": np.arange(1, alignment.n_columns + 1),
         "frame_label": list(mapping.labels),
@@ -463,13 +501,14 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
         "pvalue": scores["pvalue"],
     }
     if permutations:
-        data["pvalue_permutation"] = permutation_pvalues(codes, labels, len(kept), w, scores["g"], permutations, seed)
+        data["pvalue_permutation"] = permutation_pvalues(grouped.codes, grouped.labels, len(grouped.kept),
+                                                         grouped.weights, scores["g"], permutations, seed)
     data["gap_fraction"] = gaps
     data["n_eff"] = scores["total"]
     conservation = _conservation(residues)
-    for k, g in enumerate(kept):
-        data[f"consensus_{g}"] = consensus[k].astype(str)
-    for k, g in enumerate(kept):
+    for k, g in enumerate(grouped.kept):
+        data[f"consensus_{g}"] = group_consensus[k].astype(str)
+    for k, g in enumerate(grouped.kept):
         data[f"conservation_{g}"] = conservation[k]
     table = pd.DataFrame(data)
     table.attrs.update({
@@ -479,12 +518,12 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
         "format": alignment.format,
         "sequences": alignment.n_rows,
         "columns": alignment.n_columns,
-        "grouped_rows": int(in_kept.sum()),
+        "grouped_rows": int(grouped.in_kept.sum()),
         "ungrouped_rows": int((names == "").sum()),
         "weights": weights,
         "identity": identity if weights == "cluster" else None,
-        "groups": {g: sizes[g] for g in kept},
-        "left_out_groups": left_out,
+        "groups": {g: grouped.sizes[g] for g in grouped.kept},
+        "left_out_groups": {g: v for g, v in grouped.sizes.items() if g not in grouped.kept},
         "min_group_neff": min_group_neff,
         "conserved_min": conserved_min,
         "max_gaps": rules.max_gaps,
@@ -494,12 +533,7 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
         "class_counts": {name: int((classes == name).sum()) for name in CONTRAST_CLASSES},
         "frame": {"source": mapping.source, "anchor": mapping.anchor, "nearest_reference": mapping.nearest_reference,
                   "note": mapping.note},
-        "scores": {"contrast": "generalised Jensen-Shannon divergence of the group residue distributions, weighted "
-                               "by group effective size (bits; Lin 1991)",
-                   "mi": "mutual information of residue and group, Miller-Madow corrected (bits; Shannon 1948, "
-                         "Miller 1955)",
-                   "pvalue": "G-test of independence, chi-square with (r-1)(g-1) df",
-                   "pvalue_permutation": "(1 + #permuted G >= observed G) / (1 + K)"},
+        "scores": _SCORE_WORDS,
     })
     return table
 
@@ -523,124 +557,3 @@ def summarise_contrast(table: pd.DataFrame) -> str:
     if meta["ungrouped_rows"]:
         line += f"; {meta['ungrouped_rows']} rows without a group"
     return line
-
-
-# ---------------------------------------------------------------------------------------------------
-# Figure
-
-#: Colour of each contrast class in the figure (Okabe & Ito 2008 colours and a tint of black).
-CLASS_MARKERS: dict[str, str] = {"group-specific": "#D55E00", "shared": "#0072B2", "mixed": "#999999",
-                                 "gap-rich": "#CCCCCC"}
-
-
-def draw_contrast(table: pd.DataFrame, alignment: Alignment, groups: Sequence[str | None] | Mapping[str, str],
-                  top: int = 12, path: str | os.PathLike | None = None, title: str | None = None,
-                  inputs: Sequence = ()):
-    """Draw the contrast along the frame (helices as bands) and the top positions as per-group logos.
-
-    Parameters
-    ----------
-    table
-        From :func:`contrast_columns` on ``alignment`` and ``groups``.
-    alignment, groups
-        What the table was computed from (the logos are drawn from the rows of each group, weighted as
-        in the table: on the whole alignment).
-    top
-        Number of positions in the logos (the highest contrast, not gap-rich; drawn in column order).
-    path
-        Write the figure here (format by extension); None: only return it.
-    title
-        Figure title (default: the table's input file).
-
-    Returns
-    -------
-    matplotlib.figure.Figure
-        Axes from top to bottom: helix bands, contrast along the frame (points coloured by class, the top
-        positions ringed), then one logo per kept group (information in bits, Schneider et al. 1986
-        small-sample correction).
-    """
-    from matplotlib.figure import Figure
-    from matplotlib.lines import Line2D
-
-    from globcons.core.alphabet import STANDARD
-    from globcons.plots.figures import (
-        _draw_helix_track,
-        _finish,
-        _helix_runs,
-        _stack_glyphs,
-        figure_format,
-        information_matrix,
-    )
-    from globcons.plots.palette import OKABE_ITO, tint
-
-    if path is not None:
-        figure_format(path)
-    meta = table.attrs
-    kept = list(meta["groups"])
-    chosen = top_contrast(table, top).sort_values("column")
-    columns = chosen["column"].to_numpy(dtype=np.int64)
-    labelled = table["frame_label"].astype(str) != ""
-    shown = table[labelled] if labelled.any() else table
-    labels = list(shown["frame_label"].astype(str)) if labelled.any() else [""] * len(shown)
-    x = np.arange(len(shown))
-    values = shown["contrast"].to_numpy(dtype=np.float64)
-
-    width = float(np.clip(2.5 + 0.07 * len(shown), 8.0, 22.0))
-    heights = [0.35, 2.4] + [1.25] * len(kept)
-    fig = Figure(figsize=(width, 1.2 + sum(heights)), layout="constrained")
-    grid = fig.add_gridspec(2 + len(kept), 1, height_ratios=heights)
-    helix_ax = fig.add_subplot(grid[0])
-    ax = fig.add_subplot(grid[1], sharex=helix_ax)
-    _draw_helix_track(helix_ax, labels)
-    for _, first, last in _helix_runs(labels):
-        ax.axvspan(first - 0.5, last + 0.5, facecolor=tint(OKABE_ITO["sky blue"], 0.88), linewidth=0, zorder=0)
-    ax.plot(x, np.nan_to_num(values), color=tint(OKABE_ITO["black"], 0.55), linewidth=0.8, zorder=1)
-    classes = shown["class"].astype(str).to_numpy()
-    for name in CONTRAST_CLASSES:
-        mask = classes == name
-        if mask.any():
-            ax.scatter(x[mask], np.nan_to_num(values[mask]), s=14, color=CLASS_MARKERS[name], edgecolors="none",
-                       zorder=3, label=f"{name} ({int(mask.sum())})")
-    where = np.flatnonzero(np.isin(shown["column"].to_numpy(), columns))
-    ax.scatter(x[where], values[where], s=60, facecolors="none", edgecolors=OKABE_ITO["black"], linewidths=0.8,
-               zorder=4)
-    ax.set_xlim(-0.7, len(shown) - 0.3)
-    ax.set_ylim(0.0, max(math.log2(max(len(kept), 2)), float(np.nanmax(values)) if np.isfinite(values).any() else 0.0)
-                * 1.05)
-    ax.set_ylabel("contrast (bits)\nJensen-Shannon divergence", fontsize=9)
-    from globcons.plots.figures import _position_axis
-
-    _position_axis(ax, shown, labels, bool(labelled.any()))
-    ax.spines[["top", "right"]].set_visible(False)
-    handles, names = ax.get_legend_handles_labels()
-    handles.append(Line2D([], [], marker="o", linestyle="none", markerfacecolor="none",
-                          markeredgecolor=OKABE_ITO["black"], markersize=7))
-    names.append(f"in the logos (top {len(columns)})")
-    ax.legend(handles, names, loc="upper left", bbox_to_anchor=(1.0, 1.0), fontsize=7, frameon=False)
-
-    if columns.size:
-        names_per_row = _labels_of(alignment, groups)
-        row_weights = compute_weights(alignment.codes, meta["weights"], meta.get("identity") or 0.8).values
-        index = {g: k for k, g in enumerate(kept)}
-        in_kept = np.array([n in index for n in names_per_row], dtype=bool)
-        counts = group_counts(np.ascontiguousarray(alignment.codes[in_kept][:, columns - 1]),
-                              np.array([index[n] for n in names_per_row[in_kept]], dtype=np.int64), len(kept),
-                              row_weights[in_kept])
-        ticks = [str(label) if label else str(column) for label, column in zip(chosen["frame_label"], columns)]
-        for k, group in enumerate(kept):
-            logo_ax = fig.add_subplot(grid[2 + k])
-            matrix = information_matrix(counts[k]).to_numpy()
-            _stack_glyphs(logo_ax, matrix, list(STANDARD))
-            logo_ax.set_xlim(-0.6, len(columns) - 0.4)
-            logo_ax.set_ylim(0.0, math.log2(N_STANDARD))
-            logo_ax.set_yticks([0, 2, 4])
-            logo_ax.set_ylabel(f"{group}\n(bits)", fontsize=8)
-            logo_ax.set_xticks(range(len(columns)), ticks if k == len(kept) - 1 else [""] * len(columns),
-                               fontsize=8)
-            logo_ax.spines[["top", "right"]].set_visible(False)
-        logo_ax.set_xlabel("top positions by contrast, in column order", fontsize=9)
-    source = meta.get("input")
-    heading = title if title is not None else (f"{os.path.basename(str(source))}: group contrast" if source
-                                               else "group contrast")
-    helix_ax.set_title(heading, fontsize=10, loc="left")
-    return _finish(fig, path, inputs)

@@ -1,7 +1,8 @@
 """A family to judge sequences against: its columns' classes, residues and (for a user's alignment) profile.
 
 The built-in family is the frame's reference chains; a user's alignment gives its own (``--family``).
-Column statistics use Henikoff weights and the class rules of :mod:`globcons.core.classes`.
+Column statistics are those of the column table (:func:`globcons.core.classes.column_statistics`, Henikoff
+weights and the same class rules and defaults as ``globcons columns``).
 """
 
 from __future__ import annotations
@@ -10,14 +11,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from globcons.core.alignment import Alignment
-from globcons.core.alphabet import N_RESIDUES
-from globcons.core.classes import ClassRules, classify, top_residues
-from globcons.core.counts import column_counts
-from globcons.frame.reference import is_helix, segment_of
-from globcons.align.scoring_profile import Profile, profile_from_counts
 from globcons.align.reference import reference_alignment
-from globcons.core.scores import entropy_bits, gap_fraction, residue_frequencies, residue_strings
+from globcons.align.scoring_profile import Profile, profile_from_counts
+from globcons.core.alignment import Alignment
+from globcons.core.classes import ClassRules, column_statistics
+from globcons.core.counts import column_counts
+from globcons.core.labels import is_helix, segment_of
+from globcons.core.scores import residue_strings
 from globcons.core.weights import compute_weights
 
 __all__ = ["Family", "frame_family", "family_from_alignment"]
@@ -71,23 +71,17 @@ class Family:
         return self.classes.size
 
 
-def _family_tables(codes: np.ndarray, rules: ClassRules, weights: str = "henikoff"):
-    counts = column_counts(codes, compute_weights(codes, weights).values)
-    frequencies = residue_frequencies(counts)
-    n_eff = counts[:, :N_RESIDUES].sum(axis=1)
-    gaps = gap_fraction(counts)
-    classes, _ = classify(frequencies, gaps, n_eff, rules)
-    top3 = [",".join(item.split(",")[:3]) for item in residue_strings(frequencies)]
-    return counts, frequencies, classes, top3, gaps, entropy_bits(counts) / np.log2(20)
+def _top_three(frequencies: np.ndarray) -> np.ndarray:
+    return np.array([",".join(item.split(",")[:3]) for item in residue_strings(frequencies)], dtype=object)
 
 
-def frame_family(rules: ClassRules = ClassRules(min_neff=0)) -> Family:
+def frame_family(rules: ClassRules = ClassRules()) -> Family:
     """The built-in family: the reference chains on the frame and the classes of their columns."""
     reference = reference_alignment()
-    _, frequencies, classes, top3, gaps, entropy = _family_tables(reference.codes, rules)
-    return Family("globin frame", None, classes, frequencies.argmax(axis=1), top_residues(frequencies, rules.group_min),
-                  np.array(top3, dtype=object), frequencies, gaps, entropy, reference.labels, rules.matrix,
-                  rules.residue_groups)
+    stats = column_statistics(column_counts(reference.codes, compute_weights(reference.codes).values), rules)
+    return Family("globin frame", None, stats.classes, stats.frequencies.argmax(axis=1), stats.groups,
+                  _top_three(stats.frequencies), stats.frequencies, stats.gap_fraction, stats.entropy_norm,
+                  reference.labels, rules.matrix, rules.residue_groups)
 
 
 def family_from_alignment(alignment: Alignment, rules: ClassRules = ClassRules(), weights: str = "henikoff",
@@ -97,11 +91,12 @@ def family_from_alignment(alignment: Alignment, rules: ClassRules = ClassRules()
     ``labels`` (frame labels per column, e.g. from :func:`globcons.align.anchor.map_columns`) set the helix
     gap costs of the profile; without them every column takes the loop costs.
     """
-    counts, frequencies, classes, top3, gaps, entropy = _family_tables(alignment.codes, rules, weights)
+    counts = column_counts(alignment.codes, compute_weights(alignment.codes, weights).values)
+    stats = column_statistics(counts, rules)
     labels = labels or ("",) * alignment.n_columns
     segments = tuple(segment_of(label) if label else "" for label in labels)
     in_helix = np.array([is_helix(s) for s in segments], dtype=bool)
     profile = profile_from_counts(alignment.source, counts, labels, segments, in_helix, rules.matrix)
-    return Family(alignment.source, profile, classes, frequencies.argmax(axis=1),
-                  top_residues(frequencies, rules.group_min), np.array(top3, dtype=object), frequencies, gaps,
-                  entropy, tuple(labels), rules.matrix, rules.residue_groups)
+    return Family(alignment.source, profile, stats.classes, stats.frequencies.argmax(axis=1), stats.groups,
+                  _top_three(stats.frequencies), stats.frequencies, stats.gap_fraction, stats.entropy_norm,
+                  tuple(labels), rules.matrix, rules.residue_groups)

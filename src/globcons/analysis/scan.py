@@ -32,18 +32,19 @@ from typing import Iterable, Iterator
 import numpy as np
 import pandas as pd
 
-from globcons.core.alphabet import N_RESIDUES, encode
-from globcons.core.classes import compatible_pairs
 from globcons.align.dp import align
-from globcons.errors import OptionError
-from globcons.analysis.family import Family, family_from_alignment, frame_family
-from globcons.frame.reference import HELICES
-from globcons.align.place import DEFAULT_SHUFFLES, PlacedSequence, place_many
-from globcons.align.scoring_profile import frame_profile
+from globcons.align.place import PlacedSequence, place_many
 from globcons.align.reference import reference_alignment
+from globcons.align.scoring_profile import frame_profile, query_codes
+from globcons.align.significance import DEFAULT_SHUFFLES
+from globcons.analysis.family import Family, frame_family
+from globcons.core.alphabet import N_RESIDUES, encode, looks_like_nucleotide
+from globcons.core.labels import HELICES
+from globcons.core.matrices import compatible_pairs
+from globcons.core.vocabulary import DEVIATIONS
+from globcons.errors import OptionError
 
-__all__ = ["scan", "iter_scan", "FLAGS", "KEY_LABELS", "SUMMARY_COLUMNS", "RESIDUE_COLUMNS", "default_jobs",
-           "Family", "frame_family", "family_from_alignment"]
+__all__ = ["scan", "iter_scan", "FLAGS", "KEY_LABELS", "SUMMARY_COLUMNS", "RESIDUE_COLUMNS", "default_jobs"]
 
 #: Key positions reported in ``key_residues``, by their canonical frame label.
 KEY_LABELS = ("F8", "E7", "CD1", "B10", "E11")
@@ -69,6 +70,8 @@ FLAGS = {
                             f"in place of {FRAMESHIFT_RUN}+ frame positions (a translation out of frame?)"),
 }
 
+NO_DEVIATION, INSERTION, LEAVES_GROUP, BREAKS_INVARIANT = DEVIATIONS
+
 SUMMARY_COLUMNS = ("id", "length", "nearest_reference", "identity", "score", "evalue", "is_globin",
                    "helices_missing", "key_residues", "pocket", "departures", "departures_invariant",
                    "departures_conservative", "flags")
@@ -89,7 +92,7 @@ def _screen(sequence: str) -> tuple[str, list[str]]:
         return "", ["empty"]
     if any(not (c.isascii() and (c.isalpha() or c == "*")) for c in text):
         return "", ["invalid-characters"]
-    if len(text) >= 20 and sum(text.count(c) for c in "ACGTUN") >= 0.9 * len(text):
+    if looks_like_nucleotide(encode(text)):
         return "", ["nucleotide"]
     if len(text) > MAX_QUERY_LENGTH:
         return "", ["too-long"]
@@ -107,7 +110,7 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
     """(start, end) half-open runs of True in ``mask``."""
     padded = np.concatenate(([False], mask, [False]))
     edges = np.flatnonzero(padded[1:] != padded[:-1])
-    return list(zip(edges[::2].tolist(), edges[1::2].tolist()))
+    return list(zip(edges[::2].tolist(), edges[1::2].tolist(), strict=True))
 
 
 def _indel_flags(columns: np.ndarray) -> list[str]:
@@ -127,9 +130,9 @@ def _indel_flags(columns: np.ndarray) -> list[str]:
 
 
 def _deviations(family: Family, codes: np.ndarray, columns: np.ndarray) -> np.ndarray:
-    deviation = np.full(codes.size, "none", dtype=object)
+    deviation = np.full(codes.size, NO_DEVIATION, dtype=object)
     placed = columns >= 0
-    deviation[~placed] = "insertion"
+    deviation[~placed] = INSERTION
     cols = columns[placed]
     residue = np.minimum(codes[placed], N_RESIDUES)  # unknown X never departs
     is_residue = residue < N_RESIDUES
@@ -139,7 +142,7 @@ def _deviations(family: Family, codes: np.ndarray, columns: np.ndarray) -> np.nd
     safe = np.where(is_residue, residue, 0)
     compatible = ~((~pairs[safe]) & family.groups[cols]).any(axis=1)
     leaves = (classes == "conservative") & is_residue & ~compatible
-    result = np.where(breaks, "breaks-invariant", np.where(leaves, "leaves-group", "none"))
+    result = np.where(breaks, BREAKS_INVARIANT, np.where(leaves, LEAVES_GROUP, NO_DEVIATION))
     deviation[placed] = result
     return deviation
 
@@ -161,8 +164,7 @@ def _query_result(identifier: str, sequence: str, flags: list[str], placed: Plac
         row.update(is_globin="no", flags=",".join(flags), departures=0, departures_invariant=0,
                    departures_conservative=0)
         return row, None
-    codes = encode(sequence).copy()
-    codes[codes >= N_RESIDUES] = N_RESIDUES  # unknowns and stops: no residue of their own
+    codes = query_codes(sequence)  # unknowns and stops: no residue of their own
     frame_columns = placed.column_of_residue
     letter_at = {}
     for label in KEY_LABELS:
@@ -171,8 +173,8 @@ def _query_result(identifier: str, sequence: str, flags: list[str], placed: Plac
         letter_at[label] = sequence[hit[0]] if hit.size else "-"
     columns = frame_columns if family_columns is None else family_columns
     deviation = _deviations(family, codes, columns)
-    n_breaks = int((deviation == "breaks-invariant").sum())
-    n_leaves = int((deviation == "leaves-group").sum())
+    n_breaks = int((deviation == BREAKS_INVARIANT).sum())
+    n_leaves = int((deviation == LEAVES_GROUP).sum())
     flags = flags + [f for f in _indel_flags(frame_columns) if f not in flags]
     if "internal-stop" in flags and "possible-frameshift" not in flags:
         flags.append("possible-frameshift")
@@ -209,10 +211,10 @@ def _scan_batch(records: list[tuple[str, str]], family: Family, want_residues: b
     placed = iter(place_many(to_place, shuffles=shuffles)) if to_place else iter(())
     family_columns = None
     if family.profile is not None and to_place:
-        codes = [np.minimum(encode(text), N_RESIDUES) for _, text in to_place]
+        codes = [query_codes(text) for _, text in to_place]
         family_columns = iter(p.column_of_residue for p in align(family.profile.scores, family.profile.gaps, codes))
     rows, residue_tables = [], []
-    for (identifier, raw), (text, flags) in zip(records, screened):
+    for (identifier, raw), (text, flags) in zip(records, screened, strict=True):
         placement = next(placed) if text else None
         columns = next(family_columns) if (text and family_columns is not None) else None
         row, residues = _query_result(identifier, text, flags, placement, family, columns, want_residues)
@@ -280,7 +282,8 @@ def iter_scan(records: Iterable[tuple[str, str]], family: Family | None = None, 
     records
         ``(id, sequence)`` pairs, e.g. from :func:`globcons.io.readers.stream_records`.
     family
-        :func:`frame_family` (default) or :func:`family_from_alignment`.
+        :func:`~globcons.analysis.family.frame_family` (default) or
+        :func:`~globcons.analysis.family.family_from_alignment`.
     residues
         Build the per-residue table too.
     jobs

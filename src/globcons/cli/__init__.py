@@ -21,12 +21,17 @@ import pandas as pd
 from globcons._version import __version__
 from globcons.core.alphabet import RESIDUE_GROUPS
 from globcons.core.classes import ClassRules
-from globcons.analysis.columns import ScoreOptions, score_columns, summarise
+from globcons.analysis.columns import score_columns, summarise
+from globcons.analysis.options import ScoreOptions
 from globcons.errors import GlobconsError
 from globcons.errors import InputError, OptionError
-from globcons.io.readers import ALIGNMENT_OUTPUTS, FORMATS, alignment_format_for, format_alignment, read_alignment, read_sequences
-from globcons.align.place import DEFAULT_SHUFFLES, GLOBIN_EVALUE
-from globcons.io.tables import TABLE_FORMATS, atomic_output, check_not_input, write_table
+from globcons.io.alignments import read_alignment
+from globcons.io.records import read_sequences
+from globcons.io.sniff import FORMATS
+from globcons.io.writers import ALIGNMENT_OUTPUTS, alignment_format_for, format_alignment
+from globcons.align.significance import DEFAULT_SHUFFLES, GLOBIN_EVALUE
+from globcons.io.atomic import atomic_output, check_not_input
+from globcons.io.tables import TABLE_FORMATS, write_table
 from globcons.core.weights import SCHEMES
 
 PROG = "globcons"
@@ -212,8 +217,8 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
     carrying the frame labels so that `globcons columns` reads them back.
     """
     from globcons.io.frame_labels import encode_labels
-    from globcons.align.anchor import label_sidecar_table, sidecar_path
-    from globcons.align.place import align_to_frame
+    from globcons.io.frame_labels import label_sidecar_table, sidecar_path
+    from globcons.align.layout import align_to_frame
 
     inputs = [sequences]
     fmt = out_format or ("stockholm" if output in (None, "-") else alignment_format_for(output))
@@ -279,8 +284,9 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     pocket, departures from the family's invariant and conservative columns, and flags. With
     --residues, one row per residue with its frame label, column class and deviation.
     """
-    from globcons.io.readers import stream_records
-    from globcons.analysis.scan import SUMMARY_COLUMNS, default_jobs, family_from_alignment, frame_family, iter_scan
+    from globcons.io.records import stream_records
+    from globcons.analysis.family import family_from_alignment, frame_family
+    from globcons.analysis.scan import SUMMARY_COLUMNS, default_jobs, iter_scan
     from globcons.io.tables import table_format_for
 
     inputs = [sequences, family_path]
@@ -288,7 +294,7 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
         if path is not None:
             check_not_input(path, inputs)
     if heatmap_path is not None:
-        from globcons.plots.figures import figure_format
+        from globcons.plots.output import figure_format
 
         figure_format(heatmap_path)  # fail on a bad extension before the work
     if family_path is not None:
@@ -335,7 +341,8 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
                   f"with departures from the family's invariant or conservative columns ({jobs} worker"
                   f"{'s' if jobs > 1 else ''})")
     if heatmap_path is not None and kept:
-        from globcons.plots.figures import draw_departure_heatmap, save_figure
+        from globcons.plots.heatmap import draw_departure_heatmap
+        from globcons.plots.output import save_figure
 
         save_figure(draw_departure_heatmap(pd.concat(kept, ignore_index=True)), heatmap_path, inputs)
     written = [p for p in (output, residues_path, heatmap_path) if p not in (None, "-")]
@@ -383,7 +390,7 @@ def _load_target(target_path: str | None, target_id: str | None, family_path: st
                  reporter: _Reporter):
     """The target and the family, from TARGET / --target / --family."""
     from globcons.analysis.family import family_from_alignment, frame_family
-    from globcons.mutations.judge import prepare_target
+    from globcons.mutations.target import prepare_target
 
     family, aligned = frame_family(), None
     if family_path is not None:
@@ -420,7 +427,7 @@ def _load_target(target_path: str | None, target_id: str | None, family_path: st
 
 
 def _write_with_caution(table, output, table_format, inputs, metadata, reporter: _Reporter) -> None:
-    from globcons.mutations.judge import CAUTION
+    from globcons.core.vocabulary import CAUTION
     from globcons.io.tables import format_table, table_format_for
 
     fmt = table_format_for(output, table_format)
@@ -518,7 +525,7 @@ def demo(out_dir: str, reporter: _Reporter) -> None:
 
     from globcons.core.classes import CLASSES
     from globcons.demo import run_demo
-    from globcons.mutations.judge import CAUTION
+    from globcons.core.vocabulary import CAUTION
 
     result = run_demo(out_dir)
     counts = result.table.attrs["class_counts"]

@@ -36,7 +36,8 @@ def grouping_options(command: Callable) -> Callable:
 
 from globcons.cli import _alignment_argument, _common, _reader_options, _Reporter, cli  # noqa: E402
 from globcons.errors import OptionError  # noqa: E402
-from globcons.io.tables import TABLE_FORMATS, check_not_input, write_table  # noqa: E402
+from globcons.io.atomic import check_not_input
+from globcons.io.tables import TABLE_FORMATS, write_table  # noqa: E402
 from globcons.core.weights import SCHEMES  # noqa: E402
 
 
@@ -85,14 +86,14 @@ def contrast(alignment: str, output: str | None, table_format: str | None, figur
     gap-rich.
     """
     from globcons.analysis.contrast import summarise_contrast, top_contrast
-    from globcons.io.readers import read_alignment
+    from globcons.io.alignments import read_alignment
 
     inputs = [alignment, kw.get("groups_file")]
     for path in (output, figure_path):
         if path is not None:
             check_not_input(path, inputs)
     if figure_path is not None:
-        from globcons.plots.figures import figure_format
+        from globcons.plots.output import figure_format
 
         figure_format(figure_path)
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
@@ -100,8 +101,8 @@ def contrast(alignment: str, output: str | None, table_format: str | None, figur
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=inputs,
                           caption=f"Group contrast of {os.path.basename(str(alignment))}")
     if figure_path is not None:
-        from globcons.analysis.contrast import draw_contrast
-        from globcons.plots.figures import save_figure
+        from globcons.plots.contrast import draw_contrast
+        from globcons.plots.output import save_figure
 
         save_figure(draw_contrast(table, aligned, groups, top=top), figure_path, inputs)
         written.append(figure_path)

@@ -13,9 +13,11 @@ from globcons.cli import (_alignment_argument, _common, _frame_options, _reader_
                   cli)
 from globcons.analysis.columns import score_columns
 from globcons.errors import OptionError
-from globcons.plots.figures import FIGURE_FORMATS, PROFILE_SCORES, column_range, draw_logo, draw_profile, figure_format
-from globcons.io.readers import read_alignment
-from globcons.io.tables import check_not_input
+from globcons.plots.conservation import PROFILE_SCORES, draw_profile
+from globcons.plots.logo import column_range, draw_logo
+from globcons.plots.output import FIGURE_FORMATS, figure_format
+from globcons.io.alignments import read_alignment
+from globcons.io.atomic import check_not_input
 
 __all__ = ["logo", "profile"]
 

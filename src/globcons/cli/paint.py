@@ -9,9 +9,9 @@ import click
 
 from globcons.cli import _common, _reader_options, _score_options, _scoring_options, cli
 from globcons.analysis.columns import score_columns
-from globcons.io.readers import read_alignment
+from globcons.io.alignments import read_alignment
 from globcons.structure.paint import SCORES, SENTINEL, paint_structure
-from globcons.io.tables import check_not_input
+from globcons.io.atomic import check_not_input
 
 __all__ = ["paint"]
 

@@ -8,7 +8,7 @@ import click
 
 from globcons.cli import _alignment_argument, _common, _reader_options, _Reporter, _score_options, _scoring_options, cli
 from globcons.cli.contrast import grouping_options
-from globcons.io.tables import check_not_input
+from globcons.io.atomic import check_not_input
 
 
 @cli.command()
@@ -33,7 +33,7 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no
     With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv.
     """
     from globcons.errors import OptionError
-    from globcons.report.writer import write_report
+    from globcons.report.html import write_report
 
     check_not_input(os.path.join(out_dir, "report.html"), [alignment, groups_file])
     if groups_file is not None and group_by is not None:

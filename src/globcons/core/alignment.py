@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 from typing import Mapping
 
@@ -33,6 +33,13 @@ class Alignment:
         The format it was read as.
     notes
         Reader notes worth reporting (e.g. how many insert states were dropped), by key.
+    frame_labels
+        The globin frame label of every column ('' for a column without one), when the input carried
+        them (written by ``globcons align``), else None; :attr:`frame_labels_from` says where they came
+        from. Labels are data of the alignment: scoring never looks for them on disk.
+    frame_labels_from
+        ``"file"`` (the file's own ``#=GC`` lines), the path of the sidecar table they were read from, or
+        ``""`` when there are none.
     """
 
     ids: tuple[str, ...]
@@ -42,6 +49,8 @@ class Alignment:
     source: str = "<memory>"
     format: str = "fasta"
     notes: Mapping[str, object] = field(default_factory=dict)
+    frame_labels: tuple[str, ...] | None = None
+    frame_labels_from: str = ""
 
     def __post_init__(self) -> None:
         codes = np.asarray(self.codes, dtype=np.uint8)
@@ -66,6 +75,16 @@ class Alignment:
                 raise ValueError(f"column annotation {key!r} has {len(text)} characters for {codes.shape[1]} columns")
         object.__setattr__(self, "column_annotations", MappingProxyType(dict(self.column_annotations)))
         object.__setattr__(self, "notes", MappingProxyType(dict(self.notes)))
+        if self.frame_labels is not None:
+            labels = tuple(str(label) for label in self.frame_labels)
+            if len(labels) != codes.shape[1]:
+                raise ValueError(f"{len(labels)} frame labels for {codes.shape[1]} columns")
+            object.__setattr__(self, "frame_labels", labels)
+
+    def with_frame_labels(self, labels: tuple[str, ...] | list[str] | None, source: str) -> "Alignment":
+        """A copy carrying ``labels`` (one per column) as its frame labels, read from ``source``."""
+        return replace(self, frame_labels=None if labels is None else tuple(labels),
+                       frame_labels_from=source if labels is not None else "")
 
     @property
     def n_rows(self) -> int:

@@ -17,6 +17,7 @@ Codes index score tables directly, so ``table[codes]`` is a vectorised lookup.
 from __future__ import annotations
 
 import numpy as np
+from Bio.Data.IUPACData import protein_letters_1to3_extended
 
 __all__ = [
     "STANDARD",
@@ -34,6 +35,12 @@ __all__ = [
     "MATRIX_STAND_IN",
     "RESIDUE_GROUPS",
     "GROUP_SOURCES",
+    "THREE_LETTER",
+    "ONE_LETTER",
+    "three_letter",
+    "NUCLEOTIDE_SHARE",
+    "MIN_LETTERS_FOR_NUCLEOTIDE",
+    "looks_like_nucleotide",
     "encode",
     "decode",
     "group_index",
@@ -82,6 +89,50 @@ _CODE_TO_BYTE = np.frombuffer(CODE_LETTERS.encode("ascii"), dtype=np.uint8)
 #: Substitution matrices have no rows for U and O; they are scored as the residue they derive from
 #: (selenocysteine as Cys, pyrrolysine as Lys), the usual practice.
 MATRIX_STAND_IN = {"U": "C", "O": "K"}
+
+
+#: One-letter code -> three-letter code ("Ala", ..., "Sec" for U, "Pyl" for O), from Biopython's IUPAC table.
+THREE_LETTER: dict[str, str] = {letter: protein_letters_1to3_extended[letter] for letter in RESIDUE_LETTERS}
+#: Three-letter code in upper case -> one-letter code, for the 20 standard residues and U, O.
+ONE_LETTER: dict[str, str] = {three.upper(): one for one, three in THREE_LETTER.items()}
+
+
+def three_letter(letter: str) -> str:
+    """Three-letter code of a one-letter residue code (any case); ``"*"`` gives ``"Ter"``.
+
+    Raises
+    ------
+    ValueError
+        For a letter that is not one of :data:`RESIDUE_LETTERS` or ``*``.
+    """
+    if letter == "*":
+        return "Ter"
+    try:
+        return THREE_LETTER[letter.upper()]
+    except (KeyError, AttributeError):
+        raise ValueError(f"{letter!r} is not a one-letter residue code; valid: {RESIDUE_LETTERS} or *") from None
+
+
+#: Share of the letters that must be A, C, G, T, U or N for a sequence or a file to be taken as nucleotides.
+NUCLEOTIDE_SHARE = 0.95
+#: Fewer letters than this are never judged nucleotides (a short peptide may well be all Ala, Gly, Thr).
+MIN_LETTERS_FOR_NUCLEOTIDE = 20
+_NUCLEOTIDE_CODES = np.array([RESIDUE_LETTERS.index(c) for c in "ACGTNU"], dtype=np.intp)
+
+
+def looks_like_nucleotide(codes: np.ndarray) -> bool:
+    """Whether codes (any shape) look like nucleotides rather than protein.
+
+    Letters are residue codes and unknowns (gaps, stops and markers are not letters); the codes look
+    like nucleotides when at least :data:`MIN_LETTERS_FOR_NUCLEOTIDE` letters are present and at least
+    :data:`NUCLEOTIDE_SHARE` of them are A, C, G, T, U or N.
+
+    >>> looks_like_nucleotide(encode("ACGT" * 6)), looks_like_nucleotide(encode("MVLSEGEWQLVLHVWAKVEAD"))
+    (True, False)
+    """
+    counts = np.bincount(np.asarray(codes, dtype=np.uint8).reshape(-1), minlength=256)
+    letters = int(counts[: UNKNOWN + 1].sum())
+    return bool(letters >= MIN_LETTERS_FOR_NUCLEOTIDE and counts[_NUCLEOTIDE_CODES].sum() >= NUCLEOTIDE_SHARE * letters)
 
 
 def encode(sequence: str) -> np.ndarray:

@@ -16,17 +16,16 @@ A column whose ``n_eff`` is below ``min_neff`` keeps its class and is flagged ``
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass
-from functools import lru_cache
 
 import numpy as np
 
-from globcons.core.alphabet import GROUP_SOURCES, MATRIX_STAND_IN, N_RESIDUES, RESIDUE_GROUPS, RESIDUE_LETTERS, STANDARD, group_index
+from globcons.core.alphabet import GROUP_SOURCES, N_RESIDUES, RESIDUE_GROUPS
+from globcons.core.matrices import DEFAULT_MATRIX, compatible_pairs, load_matrix
+from globcons.core.scores import entropy_bits, gap_fraction, residue_frequencies
+from globcons.core.vocabulary import CLASSES
 from globcons.errors import OptionError
 
-__all__ = ["CLASSES", "ClassRules", "compatible_pairs", "classify", "load_matrix", "top_residues"]
-
-#: The column classes (a contract: scripts rely on these words).
-CLASSES = ("invariant", "conservative", "variable", "gap-rich")
+__all__ = ["CLASSES", "ClassRules", "ColumnStatistics", "column_statistics", "classify", "top_residues"]
 
 _TOLERANCE = 1e-9  # weighted frequencies are sums of floats: 1.0 may arrive as 0.9999999999
 
@@ -38,7 +37,7 @@ class ClassRules:
     max_gaps: float = 0.5
     invariant_min: float = 1.0
     group_min: float = 1.0
-    matrix: str = "BLOSUM62"
+    matrix: str = DEFAULT_MATRIX
     residue_groups: str | None = None
     min_neff: float = 5.0
 
@@ -66,43 +65,6 @@ class ClassRules:
 
     def as_dict(self) -> dict[str, object]:
         return asdict(self)
-
-
-@lru_cache(maxsize=None)
-def load_matrix(name: str):
-    """A substitution matrix Biopython ships, checked to cover the 20 standard residues."""
-    from Bio.Align import substitution_matrices
-
-    available = substitution_matrices.load()
-    if name not in available:
-        raise OptionError(f"unknown --matrix {name!r}; Biopython ships: {', '.join(available)}")
-    matrix = substitution_matrices.load(name)
-    missing = set(STANDARD) - set(matrix.alphabet)
-    if missing:
-        raise OptionError(f"matrix {name} does not cover the 20 amino acids (missing {''.join(sorted(missing))}); "
-                          "choose a protein matrix such as BLOSUM62")
-    return matrix
-
-
-@lru_cache(maxsize=None)
-def compatible_pairs(matrix: str = "BLOSUM62", residue_groups: str | None = None) -> np.ndarray:
-    """Which residue pairs may share a conservative column.
-
-    Returns
-    -------
-    numpy.ndarray
-        Read-only bool, shape (22, 22) over :data:`~globcons.core.alphabet.RESIDUE_LETTERS`; the diagonal is True.
-    """
-    if residue_groups is not None:
-        index = group_index(residue_groups)
-        table = index[:, None] == index[None, :]
-    else:
-        scores = load_matrix(matrix)
-        letters = [MATRIX_STAND_IN.get(c, c) for c in RESIDUE_LETTERS]
-        table = np.array([[scores[a][b] > 0 for b in letters] for a in letters])
-        np.fill_diagonal(table, True)
-    table.flags.writeable = False
-    return table
 
 
 def top_residues(frequencies: np.ndarray, share: float) -> np.ndarray:
@@ -158,3 +120,57 @@ def classify(frequencies: np.ndarray, gap_fraction: np.ndarray, n_eff: np.ndarra
     classes[gap_fraction > rules.max_gaps + _TOLERANCE] = "gap-rich"
     low_data = n_eff < rules.min_neff - _TOLERANCE
     return classes, low_data
+
+
+@dataclass(frozen=True, eq=False)
+class ColumnStatistics:
+    """What every consumer of a family's columns needs, computed once from weighted counts.
+
+    Attributes
+    ----------
+    frequencies
+        (L, 22) weighted residue frequencies (gaps and unknowns left out).
+    gap_fraction
+        (L,) weighted gap fraction.
+    n_eff
+        (L,) summed weight of the rows holding a residue.
+    entropy_bits
+        (L,) Shannon entropy over the 20 standard residues (NaN where a column has none).
+    classes
+        (L,) the words of :data:`CLASSES`.
+    low_data
+        (L,) bool: ``n_eff`` below the rules' ``min_neff``.
+    groups
+        (L, 22) bool: each column's substitution group (its top residues carrying ``group_min``).
+    """
+
+    frequencies: np.ndarray
+    gap_fraction: np.ndarray
+    n_eff: np.ndarray
+    entropy_bits: np.ndarray
+    classes: np.ndarray
+    low_data: np.ndarray
+    groups: np.ndarray
+
+    @property
+    def entropy_norm(self) -> np.ndarray:
+        """Entropy over log2(20): 0 invariant, 1 all twenty residues alike."""
+        return self.entropy_bits / np.log2(20)
+
+
+def column_statistics(counts: np.ndarray, rules: ClassRules = ClassRules()) -> ColumnStatistics:
+    """Frequencies, gaps, effective counts, entropy and classes of every column of weighted counts.
+
+    Parameters
+    ----------
+    counts
+        (L, N_CODES) weighted counts (:func:`globcons.core.counts.column_counts`).
+    rules
+        Class thresholds.
+    """
+    frequencies = residue_frequencies(counts)
+    gaps = gap_fraction(counts)
+    n_eff = counts[:, :N_RESIDUES].sum(axis=1)
+    classes, low_data = classify(frequencies, gaps, n_eff, rules)
+    return ColumnStatistics(frequencies, gaps, n_eff, entropy_bits(counts), classes, low_data,
+                            top_residues(frequencies, rules.group_min))

@@ -1,14 +1,31 @@
-"""Column scores from weighted counts: entropies, gap fraction, Jensen-Shannon divergence, consensus.
+"""Column scores from weighted counts: entropies, gap fraction, Jensen-Shannon divergence, consensus, logo heights.
 
-Every function takes the (L x N_CODES) weighted counts of :func:`globcons.core.counts.column_counts` and
-returns one value per column; nothing here loops over sequences.
+Every function takes weighted counts whose last axis is the code (``(L, N_CODES)`` from
+:func:`globcons.core.counts.column_counts`, or with leading axes, e.g. ``(groups, L, N_CODES)``) and
+returns one value per column; nothing here loops over sequences. This is the one implementation of each
+statistic: tables, figures, contrast and family all call these.
+
+Logo heights
+------------
+Per column, with ``p`` the weighted frequencies of the 20 standard residues (gaps, unknowns, U and O left
+out) and ``n`` their summed weight,
+
+    R = log2(20) - (H(p) + e(n)),   e(n) = (s - 1) / (2 ln 2 * n),  s = 20,
+
+the information of the column in bits, with the small-sample correction ``e(n)`` of Schneider, Stormo,
+Gold & Ehrenfeucht 1986 (J Mol Biol 188:415) in its usual large-n approximation. ``n`` is the column's
+*weighted* residue count: with Henikoff weights that is the column's effective number of residues, so
+near-duplicate sequences do not buy a smaller correction. R is clipped at 0, and letter ``a`` is drawn
+``p[a] * R`` bits high (:func:`information_bits`).
 """
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
-from globcons.core.alphabet import CODE_LETTERS, GAP, N_RESIDUES, N_STANDARD, RESIDUE_GROUPS, STANDARD, group_index
+from globcons.core.alphabet import CODE_LETTERS, GAP, N_RESIDUES, N_STANDARD, RESIDUE_GROUPS, STANDARD, UNKNOWN, group_index
 
 __all__ = [
     "BLOSUM62_BACKGROUND",
@@ -17,14 +34,23 @@ __all__ = [
     "standard_frequencies",
     "shannon_entropy",
     "entropy_bits",
+    "entropy_norm",
     "gap_fraction",
+    "unknown_fraction",
+    "occupancy",
     "property_entropy",
     "jensen_shannon",
     "jsd_scores",
     "smooth_window",
     "consensus",
     "residue_strings",
+    "small_sample_correction",
+    "information_bits",
+    "LOG2_20",
 ]
+
+#: Entropy of the uniform distribution over the 20 standard residues, in bits: the largest a column can have.
+LOG2_20 = math.log2(N_STANDARD)
 
 #: Background residue frequencies of BLOSUM62: the marginals of its target frequencies
 #: (Henikoff & Henikoff 1992 PNAS 89:10915), in the order of :data:`~globcons.core.alphabet.STANDARD`.
@@ -47,35 +73,36 @@ PROPERTY_CLASSES = "mirny-shakhnovich-6"
 JSD_PSEUDOCOUNT = 1e-6
 
 
+def _share(part: np.ndarray, total: np.ndarray) -> np.ndarray:
+    """``part / total`` along the last axis, 0 where ``total`` is 0."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(total > 0, part / np.where(total > 0, total, 1.0), 0.0)
+
+
 def residue_frequencies(counts: np.ndarray) -> np.ndarray:
     """Frequencies over the 22 residue codes (standard + U, O), gaps and unknowns left out.
 
     Returns
     -------
     numpy.ndarray
-        (L, 22); rows of columns with no residue are all zero.
+        (..., L, 22); rows of columns with no residue are all zero.
     """
-    residues = counts[:, :N_RESIDUES]
-    total = residues.sum(axis=1, keepdims=True)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(total > 0, residues / total, 0.0)
+    residues = counts[..., :N_RESIDUES]
+    return _share(residues, residues.sum(axis=-1, keepdims=True))
 
 
 def standard_frequencies(counts: np.ndarray) -> np.ndarray:
-    """Frequencies over the 20 standard residues only, renormalised; (L, 20), zero rows where none."""
-    residues = counts[:, :N_STANDARD]
-    total = residues.sum(axis=1, keepdims=True)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(total > 0, residues / total, 0.0)
+    """Frequencies over the 20 standard residues only, renormalised; (..., L, 20), zero rows where none."""
+    residues = counts[..., :N_STANDARD]
+    return _share(residues, residues.sum(axis=-1, keepdims=True))
 
 
 def shannon_entropy(frequencies: np.ndarray) -> np.ndarray:
-    """Shannon entropy in bits of each row of ``frequencies`` (0 log 0 = 0); NaN for an all-zero row."""
+    """Shannon entropy in bits along the last axis of ``frequencies`` (0 log 0 = 0); NaN for an all-zero row."""
     with np.errstate(divide="ignore", invalid="ignore"):
-        terms = np.where(frequencies > 0, frequencies * np.log2(frequencies), 0.0)
-    entropy = -terms.sum(axis=1)
-    entropy[frequencies.sum(axis=1) <= 0] = np.nan
-    return entropy + 0.0  # turns -0.0 into 0.0
+        terms = np.where(frequencies > 0, frequencies * np.log2(np.where(frequencies > 0, frequencies, 1.0)), 0.0)
+    entropy = np.asarray(-terms.sum(axis=-1) + 0.0)  # + 0.0 turns -0.0 into 0.0
+    return np.where(frequencies.sum(axis=-1) > 0, entropy, np.nan)
 
 
 def entropy_bits(counts: np.ndarray) -> np.ndarray:
@@ -83,18 +110,31 @@ def entropy_bits(counts: np.ndarray) -> np.ndarray:
     return shannon_entropy(standard_frequencies(counts))
 
 
+def entropy_norm(counts: np.ndarray) -> np.ndarray:
+    """:func:`entropy_bits` over :data:`LOG2_20`: 0 for one residue, 1 for all twenty alike (NaN: no residue)."""
+    return entropy_bits(counts) / LOG2_20
+
+
 def gap_fraction(counts: np.ndarray) -> np.ndarray:
     """Weighted fraction of rows with a gap in each column (unknowns count as not-gap)."""
-    total = counts.sum(axis=1)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(total > 0, counts[:, GAP] / total, 0.0)
+    return _share(counts[..., GAP], counts.sum(axis=-1))
+
+
+def unknown_fraction(counts: np.ndarray) -> np.ndarray:
+    """Weighted fraction of rows with an unknown residue (X, B, Z, J) in each column."""
+    return _share(counts[..., UNKNOWN], counts.sum(axis=-1))
+
+
+def occupancy(counts: np.ndarray) -> np.ndarray:
+    """Weighted fraction of rows holding a residue in each column (neither gap nor unknown)."""
+    return _share(counts[..., :N_RESIDUES].sum(axis=-1), counts.sum(axis=-1))
 
 
 def property_entropy(counts: np.ndarray, classes: str = PROPERTY_CLASSES) -> np.ndarray:
     """Shannon entropy (bits) over a reduced property alphabet (default: Mirny & Shakhnovich 1999's six)."""
     membership = np.eye(len(RESIDUE_GROUPS[classes]))[group_index(classes)]  # (22, groups) one-hot
-    grouped = counts[:, :N_RESIDUES] @ membership
-    return shannon_entropy(grouped / np.maximum(grouped.sum(axis=1, keepdims=True), 1e-300))
+    grouped = counts[..., :N_RESIDUES] @ membership
+    return shannon_entropy(_share(grouped, grouped.sum(axis=-1, keepdims=True)))
 
 
 def jensen_shannon(p: np.ndarray, q: np.ndarray) -> np.ndarray:
@@ -113,13 +153,11 @@ def jsd_scores(counts: np.ndarray, background: np.ndarray = BLOSUM62_BACKGROUND,
     The column distribution is over the 20 standard residues with ``pseudocount`` added to each and
     renormalised. Columns with no standard residue score 0.
     """
-    residues = counts[:, :N_STANDARD]
-    total = residues.sum(axis=1, keepdims=True)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        p = (residues / np.where(total > 0, total, 1.0) + pseudocount) / (1.0 + N_STANDARD * pseudocount)
-    score = jensen_shannon(p, background[None, :]) * (1.0 - gap_fraction(counts))
-    score[total[:, 0] <= 0] = 0.0
-    return score
+    residues = counts[..., :N_STANDARD]
+    total = residues.sum(axis=-1)
+    p = (standard_frequencies(counts) + pseudocount) / (1.0 + N_STANDARD * pseudocount)
+    score = jensen_shannon(p, background) * (1.0 - gap_fraction(counts))
+    return np.where(total > 0, score, 0.0)
 
 
 def smooth_window(score: np.ndarray, window: int, weight: float = 0.5) -> np.ndarray:
@@ -136,12 +174,13 @@ def smooth_window(score: np.ndarray, window: int, weight: float = 0.5) -> np.nda
 
 
 def consensus(counts: np.ndarray) -> np.ndarray:
-    """Most weighted residue of each column (ties: alphabetical), '-' where the column has none."""
-    residues = counts[:, :N_RESIDUES]
-    top = residues.argmax(axis=1)
-    letters = np.array(list(CODE_LETTERS[:N_RESIDUES]), dtype=object)[top]
-    letters[residues.max(axis=1) <= 0] = "-"
-    return letters
+    """Most weighted residue of each column (ties: alphabetical), '-' where the column has none.
+
+    Returns an object array of letters with the shape of ``counts`` less its last axis.
+    """
+    residues = counts[..., :N_RESIDUES]
+    letters = np.array(list(CODE_LETTERS[:N_RESIDUES]), dtype=object)[residues.argmax(axis=-1)]
+    return np.where(residues.max(axis=-1) > 0, letters, "-").astype(object)
 
 
 def residue_strings(frequencies: np.ndarray, digits: int = 2) -> list[str]:
@@ -152,7 +191,55 @@ def residue_strings(frequencies: np.ndarray, digits: int = 2) -> list[str]:
     order = np.argsort(-frequencies, axis=1, kind="stable")
     cutoff = 0.5 * 10.0 ** (-digits)
     result = []
-    for row, ranks in zip(frequencies, order):
+    for row, ranks in zip(frequencies, order, strict=True):
         shown = [f"{CODE_LETTERS[k]}:{row[k]:.{digits}f}" for k in ranks if row[k] >= cutoff]
         result.append(",".join(shown))
     return result
+
+
+def small_sample_correction(n: np.ndarray | float, s: int = N_STANDARD) -> np.ndarray:
+    """e(n) = (s - 1) / (2 ln 2 n), in bits (Schneider et al. 1986); infinite where n is 0.
+
+    Parameters
+    ----------
+    n
+        Residues observed per column (weighted), any shape.
+    s
+        Alphabet size.
+    """
+    n = np.asarray(n, dtype=np.float64)
+    with np.errstate(divide="ignore"):
+        return np.where(n > 0, (s - 1) / (2.0 * math.log(2.0) * np.where(n > 0, n, 1.0)), np.inf)
+
+
+def information_bits(counts: np.ndarray, small_sample: bool = True) -> np.ndarray:
+    """Letter heights of a logo, in bits (see the module notes).
+
+    Parameters
+    ----------
+    counts
+        Weighted counts (..., L, >= 20): only the first 20 codes, the standard residues, are used.
+    small_sample
+        Subtract the small-sample correction e(n) (n = the column's weighted count of the 20 residues).
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., L, 20) in the order of ``STANDARD``; a column's heights sum to its information R, clipped
+        at 0; columns without a standard residue are all zero.
+
+    Examples
+    --------
+    >>> counts = np.zeros((1, 24)); counts[0, STANDARD.index("W")] = 1000.0
+    >>> round(float(information_bits(counts, small_sample=False)[0, STANDARD.index("W")]), 4)
+    4.3219
+    """
+    counts = np.asarray(counts, dtype=np.float64)
+    if counts.ndim < 2 or counts.shape[-1] < N_STANDARD:
+        raise ValueError(f"counts must have shape (L, 24), got {counts.shape}")
+    n = counts[..., :N_STANDARD].sum(axis=-1)
+    p = standard_frequencies(counts)
+    entropy = np.nan_to_num(shannon_entropy(p))
+    correction = np.where(n > 0, small_sample_correction(n), 0.0) if small_sample else 0.0
+    information = np.where(n > 0, np.clip(LOG2_20 - entropy - correction, 0.0, None), 0.0)
+    return p * information[..., None]

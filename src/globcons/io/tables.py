@@ -1,117 +1,36 @@
-"""Table output (tsv, csv, json, md, tex) and safe writing: atomic, never over an input.
+"""Table output: tsv, csv, json, Markdown and LaTeX (booktabs longtable), written atomically.
 
-Regular files are written to a temporary file beside the target and renamed into place, so a failed or
-interrupted run never leaves a half-written file. Standard output, pipes and special files such as
-/dev/null are written directly and never replaced.
+The first row of every format is the header; tsv and csv carry their metadata in a sidecar
+``<output>.meta.json``; numbers are written with :data:`FLOAT_DIGITS` decimals.
 """
 
 from __future__ import annotations
 
-import contextlib
+import csv
 import json
 import math
 import os
-import stat
-import sys
-import tempfile
 from pathlib import Path
-from typing import IO, Iterable, Iterator, Mapping
+from typing import Iterable, Mapping
 
 import numpy as np
 import pandas as pd
 
-from globcons.errors import OptionError, OutputError
+from globcons.errors import OptionError
+from globcons.io.atomic import atomic_output, check_not_input
 
-__all__ = ["TABLE_FORMATS", "atomic_output", "check_not_input", "format_table", "write_table", "table_format_for"]
+__all__ = ["TABLE_FORMATS", "FLOAT_DIGITS", "format_table", "write_table", "table_format_for", "text_cell"]
 
 TABLE_FORMATS = ("tsv", "csv", "json", "md", "tex")
 FLOAT_DIGITS = 4
 
 
-def _same_file(a: str | os.PathLike, b: str | os.PathLike) -> bool:
-    try:
-        return os.path.samefile(a, b)
-    except OSError:
-        return os.path.abspath(a) == os.path.abspath(b)
 
 
-def check_not_input(path: str | os.PathLike, inputs: Iterable[str | os.PathLike | None]) -> None:
-    """Refuse an output path that is one of the inputs.
-
-    Raises
-    ------
-    OutputError
-        ``path`` names the same file as an input.
-    """
-    if str(path) == "-":
-        return
-    for source in inputs:
-        if source is None or str(source) == "-" or hasattr(source, "read"):
-            continue
-        if os.path.exists(source) and _same_file(path, source):
-            raise OutputError(f"output would overwrite the input {source}; choose another output path",
-                              source=str(path))
 
 
-@contextlib.contextmanager
-def atomic_output(path: str | os.PathLike | None, inputs: Iterable = (), binary: bool = False) -> Iterator[IO]:
-    """Open an output for writing, safely.
-
-    Parameters
-    ----------
-    path
-        A file path, or None / ``"-"`` for standard output.
-    inputs
-        Paths of the run's inputs: an output naming one of them is refused.
-    binary
-        Yield a binary stream instead of text.
-
-    Yields
-    ------
-    A stream; for a regular file, the content reaches ``path`` only when the block ends without error.
-    """
-    if path is None or str(path) == "-":
-        stream = sys.stdout.buffer if binary else sys.stdout
-        yield stream
-        stream.flush()
-        return
-    target = Path(path)
-    check_not_input(target, inputs)
-    if target.exists() and target.is_dir():
-        raise OutputError("is a folder; give a file name", source=str(target))
-    if target.exists() and not target.is_file():  # /dev/null, a FIFO: write through, never replace
-        with open(target, "wb" if binary else "w", encoding=None if binary else "utf-8") as stream:
-            yield stream
-        return
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise OutputError(f"folder {folder} does not exist", source=str(target))
-    try:
-        handle, temporary = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=".part")
-    except OSError as exc:
-        raise OutputError(f"cannot write in {folder} ({exc.strerror})", source=str(target)) from None
-    try:
-        with os.fdopen(handle, "wb" if binary else "w", encoding=None if binary else "utf-8", newline=None if binary else "") as stream:
-            yield stream
-            stream.flush()
-            os.fsync(stream.fileno())
-        os.chmod(temporary, _mode_for(target))
-        os.replace(temporary, target)
-    except BaseException as exc:
-        with contextlib.suppress(OSError):
-            os.unlink(temporary)
-        if isinstance(exc, OSError) and not isinstance(exc, (BrokenPipeError, FileNotFoundError)):
-            raise OutputError(f"cannot be written ({exc.strerror or exc}); nothing was left behind",
-                              source=str(target)) from exc
-        raise
 
 
-def _mode_for(target: Path) -> int:
-    if target.exists():
-        return stat.S_IMODE(target.stat().st_mode)
-    umask = os.umask(0)
-    os.umask(umask)
-    return 0o666 & ~umask
 
 
 def table_format_for(path: str | os.PathLike | None, requested: str | None) -> str:
@@ -127,7 +46,8 @@ def table_format_for(path: str | os.PathLike | None, requested: str | None) -> s
     return "tsv"
 
 
-def _text_cell(value: object) -> str:
+def text_cell(value: object) -> str:
+    """How a table cell reads as text: '' for missing, yes/no for booleans, floats with :data:`FLOAT_DIGITS`."""
     if value is None or value is pd.NA:
         return ""
     if isinstance(value, (bool, np.bool_)):
@@ -142,7 +62,7 @@ def _text_cell(value: object) -> str:
 
 def _text_rows(table: pd.DataFrame) -> list[list[str]]:
     columns = [table[name].tolist() for name in table.columns]
-    return [[_text_cell(v) for v in row] for row in zip(*columns)] if len(table) else []
+    return [[text_cell(v) for v in row] for row in zip(*columns, strict=True)] if len(table) else []
 
 
 def _json_cell(value: object) -> object:
@@ -168,9 +88,7 @@ def _md_escape(text: str) -> str:
 
 
 def _delimited(table: pd.DataFrame, sep: str) -> str:
-    """tsv/csv through pandas' writer (fast on large tables), with the cell rules of :func:`_text_cell`."""
-    import csv
-
+    """tsv/csv through pandas' writer (fast on large tables), with the cell rules of :func:`text_cell`."""
     frame = table.copy()
     for name in frame.columns:
         column = frame[name]
@@ -179,7 +97,7 @@ def _delimited(table: pd.DataFrame, sep: str) -> str:
         elif pd.api.types.is_float_dtype(column.dtype):
             frame[name] = column.round(FLOAT_DIGITS) + 0.0  # no "-0.0000"
         elif column.dtype == object:
-            frame[name] = column.map(_text_cell)
+            frame[name] = column.map(text_cell)
     return frame.to_csv(sep=sep, index=False, float_format=f"%.{FLOAT_DIGITS}f", na_rep="", lineterminator="\n",
                         quoting=csv.QUOTE_MINIMAL if sep == "," else csv.QUOTE_NONE, escapechar="\\")
 
@@ -205,8 +123,8 @@ def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] |
     if fmt == "csv":
         return _delimited(table, ",")
     if fmt == "json":
-        rows = [{name: _json_cell(v) for name, v in zip(table.columns, row)}
-                for row in zip(*(table[c].tolist() for c in table.columns))]
+        rows = [{name: _json_cell(v) for name, v in zip(table.columns, row, strict=True)}
+                for row in zip(*(table[c].tolist() for c in table.columns), strict=True)]
         return json.dumps({"metadata": _plain(metadata or {}), "rows": rows}, indent=1, ensure_ascii=False) + "\n"
     if fmt == "md":
         header = "| " + " | ".join(_md_escape(str(c)) for c in table.columns) + " |"

@@ -1,7 +1,8 @@
 """Judging proposed mutations of one target and ranking its positions for mutation.
 
-The target is placed on the globin frame (labels, nearest reference chain) and on the family's columns
-(the built-in frame's reference chains, or a user's alignment). Each mutation then gets:
+The target (:mod:`globcons.mutations.target`) is placed on the globin frame (labels, nearest reference
+chain) and on the family's columns (the built-in frame's reference chains, or a user's alignment). Each
+mutation then gets:
 
 - ``verdict``: ``locked`` when the column is invariant in the family or the label is a listed functional
   site; ``guarded`` when the column is conservative, or the change breaks a structural rule (Pro or Gly
@@ -23,39 +24,31 @@ where entropy_norm and gap_fraction are the family column's, and sd_hydropathy i
 deviation of the Kyte-Doolittle hydropathy of the family's residues there (how widely the family already
 varies the property). Positions outside the family's columns score 0.75 (loops the family lacks).
 
-Numbering (``numbering``): ``"given"`` counts the target as given (1 = its first residue); ``"mature"``
-counts the traditional way, without the initiator Met (a target that starts with M is taken to carry it;
-one that does not is taken as the mature chain with its Met removed). HGVS ``p.`` names always count from
-the initiator Met. Every row shows the position as given, the mature position and the HGVS name.
-
-These are family-conservation predictions for research: see :data:`CAUTION`.
+Every row shows the position as given, the mature position and the HGVS name (see
+:mod:`globcons.mutations.target` for the numberings). These are family-conservation predictions for
+research: see :data:`globcons.core.vocabulary.CAUTION`.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Iterable
 
 import numpy as np
 import pandas as pd
 
-from globcons.core.alphabet import N_RESIDUES, RESIDUE_LETTERS, STANDARD, encode
-from globcons.core.classes import load_matrix
-from globcons.align.dp import align
+from globcons.analysis.family import Family
+from globcons.core.alphabet import N_STANDARD, RESIDUE_LETTERS
+from globcons.core.labels import HELICES, is_helix, place_of, segment_of
+from globcons.core.matrices import matrix_score
+from globcons.core.properties import HYDROPATHY_ARRAY, is_charged, property_change
+from globcons.core.vocabulary import VERDICTS
 from globcons.errors import OptionError
-from globcons.analysis.family import Family, frame_family
-from globcons.frame.reference import HELICES, Site, is_helix, segment_of, sites_at
+from globcons.frame.sites import Site, sites_at
 from globcons.mutations.notation import Mutation, parse_mutation
-from globcons.align.place import PlacedSequence, place
-from globcons.core.properties import HYDROPATHY, is_charged, property_change
+from globcons.mutations.target import Target, as_target, hgvs_cell
 
-__all__ = ["CAUTION", "NUMBERINGS", "Target", "prepare_target", "check", "rank_sites", "CHECK_COLUMNS",
-           "PLAN_COLUMNS"]
+__all__ = ["check", "rank_sites", "CHECK_COLUMNS", "PLAN_COLUMNS"]
 
-CAUTION = ("Caution: these are family-conservation predictions for research, not a clinical interpretation. "
-           "Variant classification follows the laboratory's accredited procedures and current professional "
-           "guidelines; engineered proteins need experimental validation and must follow the local biosafety rules.")
-NUMBERINGS = ("given", "mature")
 CHECK_COLUMNS = ("mutation", "position", "mature_position", "hgvs", "frame_label", "column", "column_class",
                  "family_frequency", "blosum", "property_change", "verdict", "reasons")
 PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "residue", "frame_label", "column",
@@ -66,130 +59,26 @@ PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "residue", "frame
 HELIX_INTERIOR_FROM = 4
 #: A column whose weighted mean Kyte-Doolittle hydropathy is above this is called hydrophobic.
 HYDROPHOBIC_COLUMN = 1.5
-_TIER = {"open": 0, "guarded": 1, "locked": 2}
+_TIER = {verdict: tier for tier, verdict in enumerate(VERDICTS)}
+#: Weights of the tolerance score of :func:`rank_sites` (see the module notes).
+GAP_WEIGHT, SPREAD_WEIGHT, SITE_PENALTY, HELIX_PG_PENALTY = 0.25, 0.25, 1.0, 0.25
+#: Hydropathy spread (Kyte-Doolittle units) at which the spread term of the tolerance is full.
+SPREAD_SCALE = 3.0
+#: Tolerance of a position outside the family's columns (a loop the family lacks).
+OFF_COLUMN_TOLERANCE = 0.75
+#: Tolerance given to the initiator Met, below any other position.
+INITIATOR_TOLERANCE = -1.0
+#: Substitutions listed per position in ``plan``.
+SUBSTITUTIONS_SHOWN = 3
 # Within a verdict tier, columns the family varies come before conserved ones (a listed site the family
 # varies is locked, but less so than an invariant column).
 _CLASS_ORDER = {"gap-rich": 0, "variable": 0, "": 0, "conservative": 1, "invariant": 2}
-_THREE = {letter: code for letter, code in zip(STANDARD, ["Ala", "Cys", "Asp", "Glu", "Phe", "Gly", "His", "Ile",
-                                                          "Lys", "Leu", "Met", "Asn", "Pro", "Gln", "Arg", "Ser",
-                                                          "Thr", "Val", "Trp", "Tyr"])}
 
 
-@dataclass(frozen=True, eq=False)
-class Target:
-    """A target sequence placed on the frame and on the family's columns.
-
-    Attributes
-    ----------
-    id, sequence
-        As given (upper case).
-    placed
-        Its placement on the frame (labels, nearest reference chain).
-    columns
-        (n,) the family column of each residue (0-based), -1 where it has none.
-    family
-        What it is judged against.
-    numbering
-        ``"given"`` or ``"mature"``.
-    """
-
-    id: str
-    sequence: str
-    placed: PlacedSequence
-    columns: np.ndarray
-    family: Family
-    numbering: str = "given"
-
-    @property
-    def starts_with_met(self) -> bool:
-        return self.sequence.startswith("M")
-
-    def mature_position(self, given: int) -> int | None:
-        """Traditional number of the residue at ``given`` (None for the initiator Met)."""
-        mature = given - 1 if self.starts_with_met else given
-        return mature if mature >= 1 else None
-
-    def hgvs_position(self, given: int) -> int | None:
-        """HGVS ``p.`` number (from the initiator Met), or None if the target's Met status is unknown."""
-        if self.starts_with_met:
-            return given
-        return given + 1 if self.numbering == "mature" else None
-
-    def given_position(self, mutation: Mutation) -> int:
-        """1-based position in the target as given that ``mutation`` names.
-
-        Raises
-        ------
-        OptionError
-            The position is outside the target, a label the target lacks, or a ``p.`` name on a target
-            without its Met and without ``numbering="mature"``.
-        """
-        if mutation.label is not None:
-            hit = self.placed.residue_at(mutation.label)
-            if hit is None:
-                raise OptionError(f"{mutation.text}: the target has no residue at frame label {mutation.label}")
-            return hit[0]
-        position = mutation.position
-        if mutation.hgvs:
-            if self.starts_with_met:
-                given = position
-            elif self.numbering == "mature":
-                given = position - 1
-            else:
-                raise OptionError(f"{mutation.text}: p. names count from the initiator Met, and this target does not "
-                                  "start with Met; if its Met was removed, add --numbering mature")
-        elif self.numbering == "mature":
-            given = position + (1 if self.starts_with_met else 0)
-        else:
-            given = position
-        if not 1 <= given <= len(self.sequence):
-            raise OptionError(f"{mutation.text}: position {position} is outside the target "
-                              f"({len(self.sequence)} residues as given)")
-        return given
 
 
-def prepare_target(sequence: str, id: str = "target", family: Family | None = None, numbering: str = "given",
-                   row_columns: np.ndarray | None = None) -> Target:
-    """Place a target on the frame and on the family's columns.
-
-    Parameters
-    ----------
-    sequence
-        Protein letters.
-    family
-        :func:`globcons.analysis.family.frame_family` (default) or a user's family.
-    numbering
-        ``"given"`` or ``"mature"``.
-    row_columns
-        When the target is a row of the family's alignment: the column of each of its residues (skips the
-        alignment to the family profile).
-    """
-    if numbering not in NUMBERINGS:
-        raise OptionError(f"unknown numbering {numbering!r}; choose {' or '.join(NUMBERINGS)}")
-    sequence = sequence.upper()
-    if not sequence:
-        raise OptionError("the target sequence is empty")
-    bad = sorted({c for c in sequence if c not in RESIDUE_LETTERS + "XBZJ"})
-    if bad:
-        raise OptionError(f"the target holds characters that are not amino-acid letters: {''.join(bad)}")
-    family = family or frame_family()
-    placed = place(sequence, id=id)
-    if row_columns is not None:
-        columns = np.asarray(row_columns, dtype=np.int64)
-    elif family.profile is None:
-        columns = placed.column_of_residue
-    else:
-        codes = np.minimum(encode(sequence), N_RESIDUES)
-        columns = align(family.profile.scores, family.profile.gaps, [codes])[0].column_of_residue
-    return Target(id, sequence, placed, columns, family, numbering)
 
 
-def _as_target(target, family: Family | None, numbering: str) -> Target:
-    if isinstance(target, Target):
-        return target
-    if isinstance(target, tuple):
-        return prepare_target(target[1], target[0], family, numbering)
-    return prepare_target(str(target), "target", family, numbering)
 
 
 def _base_verdict(at_site: bool, column_class: str) -> str:
@@ -223,28 +112,25 @@ def _helix_interior(label: str) -> str | None:
     if not label:
         return None
     segment = segment_of(label)
-    if is_helix(segment) and int(label[len(segment):]) >= HELIX_INTERIOR_FROM:
+    if is_helix(segment) and place_of(label) >= HELIX_INTERIOR_FROM:
         return segment
     return None
 
 
 def _column_hydropathy(family: Family, column: int) -> tuple[float, float]:
     """Weighted mean and standard deviation of the hydropathy of the family's residues at a column."""
-    frequencies = family.frequencies[column, :20]
+    frequencies = family.frequencies[column, :N_STANDARD]
     total = frequencies.sum()
     if total <= 0:
         return float("nan"), 0.0
-    values = np.array([HYDROPATHY[c] for c in STANDARD])
+    values = HYDROPATHY_ARRAY
     p = frequencies / total
     mean = float(p @ values)
     return mean, float(np.sqrt(p @ (values - mean) ** 2))
 
 
-def _numbering_cells(target: Target, given: int) -> tuple[int | None, str]:
-    mature = target.mature_position(given)
-    hgvs_number = target.hgvs_position(given)
-    wild = target.sequence[given - 1]
-    return mature, (f"p.{_THREE.get(wild, 'Xaa')}{hgvs_number}" if hgvs_number else "")
+def _numbering_cells(target: Target, given: int, new: str | None = None) -> tuple[int | None, str]:
+    return target.mature_position(given), hgvs_cell(target, given, new)
 
 
 def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]:
@@ -252,10 +138,7 @@ def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]
     wild, new = target.sequence[given - 1], mutation.new
     label = target.placed.label_at(given)
     column = int(target.columns[given - 1])
-    mature, hgvs = _numbering_cells(target, given)
-    if hgvs:
-        hgvs = hgvs + _THREE.get(new, new)
-    matrix = load_matrix(family.matrix)
+    mature, hgvs = _numbering_cells(target, given, new)
     site_list = _site_reasons(target, label)
     reasons = [f"{label}: {site.role}" for site in site_list]
     frequency = float("nan")
@@ -276,7 +159,7 @@ def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]
     if helix and new in "PG" and wild != new:
         reasons.append(f"{'Pro' if new == 'P' else 'Gly'} inside helix {helix} ({label}), past its first turn")
         verdict = "guarded" if verdict == "open" else verdict
-    score = matrix[wild][new] if wild in matrix.alphabet and new in matrix.alphabet else float("nan")
+    score = matrix_score(family.matrix, wild, new)
     if score == score and score < 0:
         reasons.append(f"substitution scores {score:+.0f} in {family.matrix}")
     return {
@@ -333,7 +216,7 @@ def check(target, mutations: Iterable[str | Mutation], family: Family | None = N
     >>> table[["mutation", "frame_label", "verdict"]].values.tolist()
     [['E6V', 'A3', 'open'], ['H92Y', 'F8', 'locked']]
     """
-    target = _as_target(target, family, numbering)
+    target = as_target(target, family, numbering)
     rows = []
     for item in mutations:
         mutation = item if isinstance(item, Mutation) else parse_mutation(item)
@@ -350,16 +233,51 @@ def check(target, mutations: Iterable[str | Mutation], family: Family | None = N
     return table
 
 
-def _substitutions(family: Family, column: int, wild: str, limit: int = 3) -> str:
-    matrix = load_matrix(family.matrix)
+def _substitutions(family: Family, column: int, wild: str, limit: int = SUBSTITUTIONS_SHOWN) -> str:
     frequencies = family.frequencies[column]
     order = [k for k in np.argsort(-frequencies, kind="stable") if frequencies[k] > 0 and RESIDUE_LETTERS[k] != wild]
     parts = []
     for k in order[:limit]:
         letter = RESIDUE_LETTERS[k]
-        score = matrix[wild][letter] if wild in matrix.alphabet and letter in matrix.alphabet else float("nan")
+        score = matrix_score(family.matrix, wild, letter)
         parts.append(f"{letter} {frequencies[k]:.0%} ({score:+.0f})")
     return ", ".join(parts)
+
+
+def _position_row(target: Target, given: int, site_list: list[Site]) -> dict[str, object]:
+    """One row of the plan: the tolerance, verdict and reasons of the residue at ``given``."""
+    family, wild = target.family, target.sequence[given - 1]
+    label = target.placed.label_at(given)
+    mature, hgvs = _numbering_cells(target, given)
+    if given == 1 and target.starts_with_met:
+        return {"position": 1, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": "",
+                "column": None, "column_class": "", "tolerance": INITIATOR_TOLERANCE, "verdict": "locked",
+                "substitutions": "", "reasons": "initiator Met: changing it loses the start of translation"}
+    column = int(target.columns[given - 1])
+    reasons = [f"{label}: {site.role}" for site in site_list]
+    verdict = "locked" if site_list else "open"
+    if column >= 0:
+        entropy = float(np.nan_to_num(family.entropy_norm[column]))
+        _, spread = _column_hydropathy(family, column)
+        tolerance = (entropy + GAP_WEIGHT * float(family.gaps[column])
+                     + SPREAD_WEIGHT * min(1.0, spread / SPREAD_SCALE))
+        cls = str(family.classes[column])
+        reasons.append(_column_words(family, column))
+        verdict = _base_verdict(bool(site_list), cls)
+        substitutions = _substitutions(family, column, wild)
+    else:
+        tolerance, cls, substitutions = OFF_COLUMN_TOLERANCE, "", ""
+        reasons.append("not on the family's columns (a residue the family lacks)")
+    if site_list:
+        tolerance -= SITE_PENALTY
+    helix = _helix_interior(label)
+    if helix and wild in "PG":
+        tolerance -= HELIX_PG_PENALTY
+        reasons.append(f"{'Pro' if wild == 'P' else 'Gly'} inside helix {helix} ({label}): structural")
+        verdict = "guarded" if verdict == "open" else verdict
+    return {"position": given, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": label,
+            "column": column + 1 if column >= 0 else None, "column_class": cls, "tolerance": round(tolerance, 6),
+            "verdict": verdict, "substitutions": substitutions, "reasons": "; ".join(reasons)}
 
 
 def rank_sites(target, family: Family | None = None, numbering: str = "given",
@@ -379,53 +297,20 @@ def rank_sites(target, family: Family | None = None, numbering: str = "given",
     pandas.DataFrame
         Columns :data:`PLAN_COLUMNS`.
     """
-    target = _as_target(target, family, numbering)
-    family = target.family
+    target = as_target(target, family, numbering)
     labels_out, helices_out, kinds_out = set(exclude_labels), set(exclude_helices), set(exclude_kinds)
     unknown_helices = helices_out - set(HELICES)
     if unknown_helices:
         raise OptionError(f"unknown helix {sorted(unknown_helices)[0]!r}; helices are {', '.join(HELICES)}")
     rows = []
     for given in range(1, len(target.sequence) + 1):
-        wild = target.sequence[given - 1]
         label = target.placed.label_at(given)
         if label in labels_out or (label and segment_of(label) in helices_out):
             continue
         site_list = _site_reasons(target, label)
         if any(site.kind in kinds_out for site in site_list):
             continue
-        column = int(target.columns[given - 1])
-        reasons = [f"{label}: {site.role}" for site in site_list]
-        verdict = "locked" if site_list else "open"
-        if given == 1 and target.starts_with_met:
-            mature, hgvs = _numbering_cells(target, given)
-            rows.append({"position": 1, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": "",
-                         "column": None, "column_class": "", "tolerance": -1.0, "verdict": "locked",
-                         "substitutions": "", "reasons": "initiator Met: changing it loses the start of translation"})
-            continue
-        helix = _helix_interior(label)
-        if column >= 0:
-            entropy = float(np.nan_to_num(family.entropy_norm[column]))
-            _, spread = _column_hydropathy(family, column)
-            tolerance = entropy + 0.25 * float(family.gaps[column]) + 0.25 * min(1.0, spread / 3.0)
-            cls = str(family.classes[column])
-            reasons.append(_column_words(family, column))
-            verdict = _base_verdict(bool(site_list), cls)
-            substitutions = _substitutions(family, column, wild)
-        else:
-            tolerance, cls, substitutions = 0.75, "", ""
-            reasons.append("not on the family's columns (a residue the family lacks)")
-        if site_list:
-            tolerance -= 1.0
-        if helix and wild in "PG":
-            tolerance -= 0.25
-            reasons.append(f"{'Pro' if wild == 'P' else 'Gly'} inside helix {helix} ({label}): structural")
-            verdict = "guarded" if verdict == "open" else verdict
-        mature, hgvs = _numbering_cells(target, given)
-        rows.append({"position": given, "mature_position": mature, "hgvs": hgvs, "residue": wild,
-                     "frame_label": label, "column": column + 1 if column >= 0 else None, "column_class": cls,
-                     "tolerance": round(tolerance, 6), "verdict": verdict, "substitutions": substitutions,
-                     "reasons": "; ".join(reasons)})
+        rows.append(_position_row(target, given, site_list))
     rows.sort(key=lambda r: (_TIER[r["verdict"]], _CLASS_ORDER.get(r["column_class"], 0), -r["tolerance"],
                              r["position"]))
     for rank, row in enumerate(rows, start=1):

@@ -27,7 +27,8 @@ Decisions
 * A synonymous name (``E6E``) is accepted; :attr:`Mutation.is_synonymous` tells the caller, who can
   report it. HGVS's ``=`` shorthand is refused with a hint to write the residue out.
 * One- and three-letter codes are not mixed within a name (``E6Val`` is refused).
-* Three-letter codes come from Biopython's IUPAC tables, restricted to the 20 standard residues.
+* Three-letter codes come from Biopython's IUPAC tables (:data:`globcons.core.alphabet.THREE_LETTER`),
+  restricted to the 20 standard residues.
 
 >>> m = parse_mutation("p.(Glu7Val)")
 >>> (m.wild, m.position, m.new, m.hgvs, m.style)
@@ -43,11 +44,10 @@ import os
 import re
 from dataclasses import dataclass
 
-from Bio.Data.IUPACData import protein_letters_1to3, protein_letters_3to1
-
-from globcons.core.alphabet import STANDARD
+from globcons.core.alphabet import ONE_LETTER, STANDARD, THREE_LETTER
+from globcons.core.labels import SEGMENT_PATTERN, is_label
 from globcons.errors import InputError, OptionError
-from globcons.frame.reference import is_label
+from globcons.io.opening import read_text
 
 __all__ = [
     "STYLES",
@@ -61,12 +61,9 @@ __all__ = [
 #: Accepted values of :attr:`Mutation.style` and of ``format_mutation``'s ``style``.
 STYLES: tuple[str, ...] = ("one-letter", "three-letter", "label")
 
-# Biopython's tables hold exactly the 20 standard residues today; the filter keeps it that way if a
-# later release adds Sec/Pyl or ambiguity codes.
-_ONE_TO_THREE: dict[str, str] = {k: v for k, v in protein_letters_1to3.items() if k in STANDARD}
-_THREE_TO_ONE: dict[str, str] = {k.upper(): v for k, v in protein_letters_3to1.items() if v in STANDARD}
-if sorted(_ONE_TO_THREE) != sorted(STANDARD) or len(_THREE_TO_ONE) != len(STANDARD):
-    raise ImportError("Biopython's three-letter table does not cover the 20 standard residues")
+# Only the 20 standard residues: the property tables and substitution matrices do not cover U and O.
+_ONE_TO_THREE: dict[str, str] = {k: v for k, v in THREE_LETTER.items() if k in STANDARD}
+_THREE_TO_ONE: dict[str, str] = {k: v for k, v in ONE_LETTER.items() if v in STANDARD}
 
 _VALID_ONE = f"a one-letter code from {STANDARD}"
 _VALID_THREE = "a three-letter code (" + ", ".join(_ONE_TO_THREE[k] for k in STANDARD) + ")"
@@ -82,7 +79,7 @@ _PREFIX = re.compile(r"^([a-zA-Z])\.")
 # RNA transcript, circular genomic, RNA.
 _NUCLEIC_PREFIXES = "cgmnor"
 _POSITIONAL = re.compile(r"^([A-Za-z]+)([0-9]+)([A-Za-z]+)$")
-_LABEL_THEN_RESIDUE = re.compile(r"^(NA|HC|AB|CD|CE|EF|FG|GH|[A-H])([1-9][0-9]*)([A-Za-z]{1}|[A-Za-z]{3})$")
+_LABEL_THEN_RESIDUE = re.compile(rf"^({SEGMENT_PATTERN})([1-9][0-9]*)([A-Za-z]{{1}}|[A-Za-z]{{3}})$")
 
 
 @dataclass(frozen=True)
@@ -464,12 +461,7 @@ def read_mutation_file(path: str | os.PathLike[str]) -> list[Mutation]:
         error carries the file name and the 1-based line number.
     """
     source = os.fspath(path)
-    try:
-        with open(source, encoding="utf-8") as handle:
-            lines = handle.read().splitlines()
-    except (OSError, UnicodeDecodeError) as error:
-        reason = error.strerror if isinstance(error, OSError) and error.strerror else str(error)
-        raise InputError(f"cannot read the mutation file: {reason}", source) from None
+    lines = read_text(path, "mutation file").splitlines()
     mutations = []
     for number, raw in enumerate(lines, 1):
         item = raw.split("#", 1)[0].strip()

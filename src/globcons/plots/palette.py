@@ -35,11 +35,13 @@ __all__ = [
     "OKABE_ITO",
     "tint",
     "TINTS",
+    "tinted",
     "RESIDUE_GROUPING",
     "GROUP_COLOURS",
     "RESIDUE_COLOURS",
     "CLASS_COLOURS",
     "DEVIATION_COLOURS",
+    "CONTRAST_COLOURS",
     "ABSENT_COLOUR",
     "GAP_RICH_COLOUR",
     "residue_colour",
@@ -92,10 +94,16 @@ TINTS: dict[str, tuple[str, float]] = {
     "gap-rich class": ("black", 0.6),
     "gap-rich band": ("black", 0.85),
     "no departure": ("sky blue", 0.8),
+    "mixed contrast": ("black", 0.6),
+    "gap-rich contrast": ("black", 0.8),
+    "helix band": ("sky blue", 0.55),
+    "helix shade": ("sky blue", 0.88),
+    "score line": ("black", 0.55),
 }
 
 
-def _tinted(name: str) -> str:
+def tinted(name: str) -> str:
+    """The tint listed in :data:`TINTS` under ``name``."""
     base, amount = TINTS[name]
     return tint(OKABE_ITO[base], amount)
 
@@ -123,8 +131,8 @@ def _residue_colours() -> dict[str, str]:
         raise RuntimeError(f"residue grouping {RESIDUE_GROUPING} leaves out {''.join(sorted(missing))}")
     for odd, stand_in in MATRIX_STAND_IN.items():
         colours[odd] = colours[stand_in]
-    colours["X"] = _tinted("unknown residue")
-    colours["-"] = _tinted("gap")
+    colours["X"] = tinted("unknown residue")
+    colours["-"] = tinted("gap")
     return {letter: colours[letter] for letter in CODE_LETTERS}
 
 
@@ -136,22 +144,30 @@ CLASS_COLOURS: dict[str, str] = {
     "invariant": OKABE_ITO["blue"],
     "conservative": OKABE_ITO["bluish green"],
     "variable": OKABE_ITO["orange"],
-    "gap-rich": _tinted("gap-rich class"),
+    "gap-rich": tinted("gap-rich class"),
 }
 
 #: Per-residue deviation of a scanned query -> colour, for the departure heat map. The two departures are
 #: the strongest colours (vermillion, yellow: far apart in lightness for every kind of colour vision).
 DEVIATION_COLOURS: dict[str, str] = {
-    "none": _tinted("no departure"),
+    "none": tinted("no departure"),
     "leaves-group": OKABE_ITO["yellow"],
     "breaks-invariant": OKABE_ITO["vermillion"],
     "insertion": OKABE_ITO["blue"],
 }
 
+#: Contrast class -> colour, for the markers of the group-contrast figure.
+CONTRAST_COLOURS: dict[str, str] = {
+    "group-specific": OKABE_ITO["vermillion"],
+    "shared": OKABE_ITO["blue"],
+    "mixed": tinted("mixed contrast"),
+    "gap-rich": tinted("gap-rich contrast"),
+}
+
 #: Heat-map cells where the query has no residue at the frame position: white, the page itself (nothing there).
 ABSENT_COLOUR: str = "#FFFFFF"
 #: Background band of a gap-rich column in a logo.
-GAP_RICH_COLOUR: str = _tinted("gap-rich band")
+GAP_RICH_COLOUR: str = tinted("gap-rich band")
 
 
 def residue_colour(letter: str) -> str:

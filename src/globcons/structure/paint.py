@@ -25,9 +25,8 @@ very large alignments); mmCIF output keeps full precision.
 
 Formats
 -------
-The input format is read from the content (an mmCIF file begins with a ``data_`` block), so a
-misnamed file still reads; gzip-compressed files (``.gz``) are read too. The output format follows the
-output's extension: ``.pdb`` and ``.ent`` write PDB, ``.cif`` and ``.mmcif`` write mmCIF. From an
+The input is read by :mod:`globcons.structure.read` (format from the content, gzip too). The output
+format follows the output's extension: ``.pdb`` and ``.ent`` write PDB, ``.cif`` and ``.mmcif`` write mmCIF. From an
 mmCIF input to an mmCIF output every category of the input is kept and only
 ``_atom_site.B_iso_or_equiv`` is replaced.
 
@@ -39,7 +38,6 @@ ensemble) the same residues are painted in every model.
 
 from __future__ import annotations
 
-import gzip
 import io
 import math
 import os
@@ -51,12 +49,13 @@ from typing import Iterable, Iterator
 import numpy as np
 import pandas as pd
 
-from globcons.core.alignment import Alignment
-from globcons.core.alphabet import N_RESIDUES, encode
 from globcons.align.dp import align
-from globcons.errors import InputError, InputWarning, OptionError, OutputError
+from globcons.align.scoring_profile import query_codes
 from globcons.analysis.family import family_from_alignment
-from globcons.io.tables import atomic_output
+from globcons.core.alignment import Alignment
+from globcons.errors import InputWarning, OptionError, OutputError
+from globcons.io.atomic import atomic_output
+from globcons.structure.read import load_structure, pick_chain
 
 __all__ = [
     "SENTINEL",
@@ -66,11 +65,9 @@ __all__ = [
     "LOW_MAPPED",
     "MappingStats",
     "PaintResult",
-    "chain_residues",
     "map_chain_to_alignment",
     "mapping_stats",
     "score_values",
-    "read_structure",
     "structure_format_for",
     "paint_structure",
 ]
@@ -99,164 +96,8 @@ LOW_IDENTITY = 0.2
 #: not a member of the family).
 LOW_MAPPED = 0.5
 
-_WATERS = frozenset({"HOH", "WAT", "H2O", "DOD", "D2O"})
 # The PDB format's B-factor field is 6 characters wide.
 _PDB_B_RANGE = (-999.99, 9999.99)
-
-
-# ---------------------------------------------------------------------------------------------------
-# Reading
-
-
-def _open_text(path: Path):
-    if path.suffix.lower() == ".gz":
-        return gzip.open(path, "rt", encoding="utf-8", errors="strict")
-    return open(path, encoding="utf-8", errors="strict")
-
-
-def _sniff_format(path: Path) -> str:
-    """``"mmcif"`` when the first meaningful line opens a ``data_`` block, else ``"pdb"``."""
-    try:
-        with _open_text(path) as handle:
-            for line in handle:
-                text = line.strip()
-                if not text or text.startswith("#"):
-                    continue
-                return "mmcif" if text.lower().startswith("data_") else "pdb"
-    except (UnicodeDecodeError, gzip.BadGzipFile, EOFError) as exc:
-        raise InputError(f"is not a text PDB or mmCIF file ({exc})", source=str(path)) from None
-    raise InputError("is empty; expected a PDB or mmCIF structure", source=str(path))
-
-
-def read_structure(path: str | os.PathLike):
-    """Read a PDB or mmCIF file (gzip-compressed too) into a ``Bio.PDB`` structure.
-
-    Parameters
-    ----------
-    path
-        The structure file; its format is read from the content.
-
-    Returns
-    -------
-    tuple of (Bio.PDB.Structure.Structure, str)
-        The structure and its format, ``"pdb"`` or ``"mmcif"``.
-
-    Raises
-    ------
-    InputError
-        The file is missing, not text, or cannot be parsed, or holds no atoms.
-    """
-    from Bio.PDB import MMCIFParser, PDBParser
-
-    source = Path(path)
-    if not source.exists():
-        raise InputError("does not exist", source=str(source))
-    if source.is_dir():
-        raise InputError("is a folder; give a PDB or mmCIF file", source=str(source))
-    fmt = _sniff_format(source)
-    parser = MMCIFParser(QUIET=True) if fmt == "mmcif" else PDBParser(QUIET=True)
-    try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            with _open_text(source) as handle:
-                structure = parser.get_structure(source.stem, handle)
-    except (UnicodeDecodeError, gzip.BadGzipFile, EOFError) as exc:
-        raise InputError(f"is not a text PDB or mmCIF file ({exc})", source=str(source)) from None
-    except Exception as exc:  # the parsers raise ValueError, KeyError, PDBConstructionException, ...
-        kind = "mmCIF" if fmt == "mmcif" else "PDB"
-        raise InputError(f"cannot be read as {kind} ({type(exc).__name__}: {exc})", source=str(source)) from None
-    if not any(True for _ in structure.get_atoms()):
-        raise InputError("holds no atoms; expected a PDB or mmCIF structure", source=str(source))
-    return structure, fmt
-
-
-def _letter(residue) -> str | None:
-    """One-letter code of a residue of the protein chain, or None for anything else."""
-    from Bio.PDB.Polypeptide import is_nucleic, protein_letters_3to1_extended
-
-    name = residue.get_resname().strip().upper()
-    if name in _WATERS:
-        return None
-    letter = protein_letters_3to1_extended.get(name)
-    if letter is not None:
-        return letter
-    if residue.id[0] == " " and not is_nucleic(name):
-        return "X"  # an ATOM record of an unknown residue (UNK, or a name Biopython does not know)
-    return None
-
-
-def chain_residues(structure, chain_id: str) -> list[tuple[object, str]]:
-    """The amino-acid residues of one chain, in file order, with their one-letter codes.
-
-    Parameters
-    ----------
-    structure
-        A ``Bio.PDB`` structure (or one of its models); the chain is taken from the first model.
-    chain_id
-        The chain's identifier.
-
-    Returns
-    -------
-    list of (Bio.PDB.Residue.Residue, str)
-        Standard residues by their letter; modified residues by their parent's letter (MSE as M, SEP
-        as S, from ``Bio.PDB.Polypeptide.protein_letters_3to1_extended``); residues of ATOM records
-        with an unknown name as X. Waters, ligands (HEM, ions, ...) and nucleotides are left out.
-
-    Raises
-    ------
-    KeyError
-        The chain is not in the structure.
-    """
-    model = _first_model(structure)
-    chain = model[chain_id]
-    result = []
-    for residue in chain:
-        letter = _letter(residue)
-        if letter is not None:
-            result.append((residue, letter))
-    return result
-
-
-def _first_model(structure):
-    if structure.level == "M":
-        return structure
-    models = list(structure)
-    if not models:
-        raise KeyError("the structure has no model")
-    return models[0]
-
-
-def _is_protein(residues: list[tuple[object, str]]) -> bool:
-    return any(letter != "X" for _, letter in residues)
-
-
-def _chain_summary(model) -> str:
-    parts = []
-    for chain in model:
-        residues = chain_residues(model, chain.id)
-        kind = f"{len(residues)} protein residues" if _is_protein(residues) else "no protein"
-        parts.append(f"{chain.id!r} ({kind})")
-    return ", ".join(parts) if parts else "none"
-
-
-def _pick_chain(structure, chain: str | None, source: str) -> tuple[str, list[tuple[object, str]]]:
-    model = _first_model(structure)
-    if chain is None:
-        for candidate in model:
-            residues = chain_residues(model, candidate.id)
-            if _is_protein(residues):
-                return candidate.id, residues
-        raise InputError(f"has no protein chain (chains: {_chain_summary(model)})", source=source)
-    ids = [c.id for c in model]
-    if chain not in ids:
-        raise InputError(f"has no chain {chain!r}; chains present: {_chain_summary(model)}", source=source)
-    residues = chain_residues(model, chain)
-    if not _is_protein(residues):
-        protein = [c for c in ids if _is_protein(chain_residues(model, c))]
-        choice = (f"protein chains: {', '.join(repr(c) for c in protein)}" if protein
-                  else "the file has no protein chain")
-        raise InputError(f"chain {chain!r} holds no protein residues; {choice}", source=source)
-    return chain, residues
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -296,7 +137,7 @@ def map_chain_to_alignment(sequence: str, alignment: Alignment, table: pd.DataFr
     if not sequence:
         return np.zeros(0, dtype=np.int64)
     family = family_from_alignment(alignment, labels=tuple(str(label) for label in table["frame_label"]))
-    codes = np.minimum(encode(sequence.upper()), N_RESIDUES)
+    codes = query_codes(sequence.upper())
     placement = align(family.profile.scores, family.profile.gaps, [codes])[0]
     columns = np.asarray(placement.column_of_residue, dtype=np.int64)
     return np.where(columns >= 0, columns + 1, 0)
@@ -500,7 +341,7 @@ def _cif_row_keys(data: dict) -> Iterator[tuple | None]:
     numbers = data.get("_atom_site.auth_seq_id") or data["_atom_site.label_seq_id"]
     icodes = data.get("_atom_site.pdbx_PDB_ins_code") or ["?"] * len(names)
     groups = data.get("_atom_site.group_PDB") or ["ATOM"] * len(names)
-    for name, chain, number, icode, group in zip(names, chains, numbers, icodes, groups):
+    for name, chain, number, icode, group in zip(names, chains, numbers, icodes, groups, strict=True):
         try:
             resseq = int(number)
         except ValueError:
@@ -514,12 +355,11 @@ def _cif_row_keys(data: dict) -> Iterator[tuple | None]:
         yield (chain, (field, resseq, icode), name)
 
 
-def _write_cif_dict(source: Path, values: dict[tuple, float], sentinel: float, stream) -> None:
+def _write_cif_dict(text: str, values: dict[tuple, float], sentinel: float, stream) -> None:
     from Bio.PDB import MMCIFIO
     from Bio.PDB.MMCIF2Dict import MMCIF2Dict
 
-    with _open_text(source) as handle:
-        data = MMCIF2Dict(handle)
+    data = MMCIF2Dict(io.StringIO(text))
     data["_atom_site.B_iso_or_equiv"] = [_format_cif_number(values.get(key, sentinel) if key else sentinel)
                                          for key in _cif_row_keys(data)]
     writer = MMCIFIO()
@@ -585,10 +425,11 @@ def paint_structure(structure_path: str | os.PathLike, alignment: Alignment, tab
     to_stdout = str(out_path) == "-"
     if out_format is not None and out_format not in ("pdb", "mmcif"):
         raise OptionError(f"unknown structure format {out_format!r}; choose pdb or mmcif")
-    structure, in_format = read_structure(source)
+    loaded = load_structure(source)
+    structure, in_format = loaded.structure, loaded.format
     fmt = out_format or (in_format if to_stdout else structure_format_for(out_path))
     sentinel = _check_sentinel(unmapped, fmt)
-    chain_id, residues = _pick_chain(structure, chain, str(source))
+    chain_id, residues = pick_chain(structure, chain, str(source))
     sequence = "".join(letter for _, letter in residues)
     columns = map_chain_to_alignment(sequence, alignment, table)
     stats = mapping_stats(sequence, columns, table)
@@ -596,7 +437,7 @@ def paint_structure(structure_path: str | os.PathLike, alignment: Alignment, tab
     # Score of each residue (by its id in the chain), then every atom of the structure.
     values: dict[tuple, float] = {}
     painted = 0
-    for (residue, _), column in zip(residues, columns):
+    for (residue, _), column in zip(residues, columns, strict=True):
         if column <= 0:
             continue
         value = float(values_by_column[column - 1])
@@ -629,7 +470,7 @@ def paint_structure(structure_path: str | os.PathLike, alignment: Alignment, tab
     all_inputs = [source, *inputs]
     if fmt == "mmcif" and in_format == "mmcif":
         with atomic_output(None if to_stdout else out_path, all_inputs) as stream:
-            _write_cif_dict(source, values, sentinel, stream)
+            _write_cif_dict(loaded.text, values, sentinel, stream)
     else:
         _write_structure(structure, fmt, None if to_stdout else out_path, all_inputs)
     return PaintResult(str(source), str(out_path), fmt, chain_id, stats.residues, stats.mapped, stats.unmapped,

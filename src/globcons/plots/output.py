@@ -1,0 +1,69 @@
+"""Writing figures: the format follows the file's extension, and files are written atomically.
+
+Every figure is a :class:`matplotlib.figure.Figure` built directly (no pyplot state, so no GUI backend is
+ever needed and a notebook's backend is left alone) and coloured only from :mod:`globcons.plots.palette`.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+from typing import Iterable
+
+from matplotlib.figure import Figure
+
+from globcons.errors import OptionError
+from globcons.io.atomic import atomic_output
+
+__all__ = ["FIGURE_FORMATS", "FIGURE_DPI", "figure_format", "save_figure", "finish_figure"]
+
+
+#: Output extension -> matplotlib format.
+FIGURE_FORMATS: dict[str, str] = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
+
+
+#: Resolution of raster (PNG) output; a figure of w x h inches gives w*FIGURE_DPI x h*FIGURE_DPI pixels.
+FIGURE_DPI = 150
+
+
+def figure_format(path: str | os.PathLike) -> str:
+    """The matplotlib format for an output path, from its extension.
+
+    Raises
+    ------
+    OptionError
+        If the extension is not one of :data:`FIGURE_FORMATS`.
+    """
+    suffix = Path(str(path)).suffix.lower()
+    if suffix not in FIGURE_FORMATS:
+        raise OptionError(f"cannot tell the figure format of {path}: give a file name ending in "
+                          f"{', '.join(FIGURE_FORMATS)}")
+    return FIGURE_FORMATS[suffix]
+
+
+def save_figure(fig: Figure, path: str | os.PathLike, inputs: Iterable = ()) -> str:
+    """Write ``fig`` to ``path`` in the format of its extension, atomically, never over an input.
+
+    Returns
+    -------
+    str
+        The path written.
+    """
+    fmt = figure_format(path)
+    with atomic_output(path, inputs, binary=True) as stream:
+        # A fixed date keeps the bytes of PDF/SVG output the same from run to run.
+        metadata = {"Creator": "globcons"}
+        if fmt == "pdf":
+            metadata["CreationDate"] = None
+        elif fmt == "svg":
+            metadata["Date"] = None
+        fig.savefig(stream, format=fmt, dpi=FIGURE_DPI, metadata=metadata)
+    return str(path)
+
+
+def finish_figure(fig: Figure, path: str | os.PathLike | None, inputs: Iterable = ()) -> Figure:
+    """Save ``fig`` to ``path`` when one is given (see :func:`save_figure`), and return it."""
+    if path is not None:
+        save_figure(fig, path, inputs)
+    return fig
+

@@ -1,0 +1,106 @@
+"""The methods paragraph of a report and its citations, generated from the options a table was made with."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pandas as pd
+
+__all__ = ["methods_text", "citations", "contrast_methods_text", "CONTRAST_CITATIONS", "PERMUTATION_CITATION"]
+
+
+def citations(meta: dict) -> list[str]:
+    """References for the methods a column table's metadata says were used."""
+    cited = ["Shannon CE (1948) A mathematical theory of communication. Bell Syst Tech J 27:379-423.",
+             "Capra JA, Singh M (2007) Predicting functionally important residues from sequence conservation. "
+             "Bioinformatics 23:1875-1882.",
+             "Mirny LA, Shakhnovich EI (1999) Universally conserved positions in protein folds. J Mol Biol "
+             "291:177-196.",
+             "Henikoff S, Henikoff JG (1992) Amino acid substitution matrices from protein blocks. PNAS "
+             "89:10915-10919.",
+             "Schneider TD, Stormo GD, Gold L, Ehrenfeucht A (1986) Information content of binding sites on "
+             "nucleotide sequences. J Mol Biol 188:415-431."]
+    if meta["weights"] == "henikoff":
+        cited.append("Henikoff S, Henikoff JG (1994) Position-based sequence weights. J Mol Biol 243:574-578.")
+    if meta["weights"] == "cluster":
+        cited.append("Morcos F et al. (2011) Direct-coupling analysis of residue coevolution captures native "
+                     "contacts across many protein families. PNAS 108:E1293-E1301.")
+    if meta.get("frame", {}).get("source") == "anchor":
+        cited += ["Gribskov M, McLachlan AD, Eisenberg D (1987) Profile analysis: detection of distantly related "
+                  "proteins. PNAS 84:4355-4358.",
+                  "Gotoh O (1982) An improved algorithm for matching biological sequences. J Mol Biol 162:705-708.",
+                  "Karlin S, Altschul SF (1990) Methods for assessing the statistical significance of molecular "
+                  "sequence features by using general scoring schemes. PNAS 87:2264-2268."]
+    return cited
+
+
+def methods_text(table: pd.DataFrame) -> str:
+    """The methods paragraph for a column table, from the options recorded in its metadata."""
+    meta = table.attrs
+    rules = meta["rules"]
+    weighting = {
+        "henikoff": "position-based sequence weights (Henikoff and Henikoff 1994), scaled to sum to the number "
+                    "of distinct sequences",
+        "cluster": f"weights of one over the number of sequences within {meta['identity'] or 0.8:.0%} identity "
+                   "(Morcos et al. 2011)",
+        "none": "no sequence weighting",
+    }[meta["weights"]]
+    grouping = (f"the reduced alphabet {rules['residue_groups']}" if rules["residue_groups"]
+                else f"{rules['matrix']} (every pair of residues scoring above zero; Henikoff and Henikoff 1992)")
+    frame = meta.get("frame") or {}
+    frame_sentence = {
+        "file": "Columns carried globin helix labels assigned by placement on the globcons reference frame.",
+        "sidecar": "Columns carried globin helix labels assigned by placement on the globcons reference frame.",
+        "anchor": (f"Columns were tied to the globin helix frame through the sequence {frame.get('anchor')}, placed "
+                   "on a profile of four reference globins (Gribskov et al. 1987) by affine-gap alignment (Gotoh "
+                   "1982) with helix-dependent gap costs; its significance came from shuffled copies (Karlin and "
+                   f"Altschul 1990; E-value {frame.get('evalue') if frame.get('evalue') is not None else float('nan'):.1e})."),
+    }.get(frame.get("source"), "Columns were not tied to the globin helix frame.")
+    text = (
+        f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of {Path(meta['input']).name} "
+        f"was computed with globcons {meta['version']}, using {weighting} "
+        f"({meta['effective_sequences']:.1f} effective sequences). For each column, the weighted Shannon entropy "
+        "over the 20 standard residues (Shannon 1948; gaps and unknown residues excluded), the entropy over six "
+        "property classes (Mirny and Shakhnovich 1999) and the Jensen-Shannon divergence from the BLOSUM62 "
+        "background distribution, multiplied by the fraction of non-gap weight (Capra and Singh 2007"
+        + (f", smoothed over {meta['window']} neighbouring columns on each side" if meta["window"] else "")
+        + "), were computed. "
+        f"Columns with a weighted gap fraction above {rules['max_gaps']:g} were classed gap-rich; columns in which "
+        f"one residue carried at least {rules['invariant_min']:g} of the residue weight, invariant; columns whose "
+        f"most frequent residues carrying {rules['group_min']:g} of the weight formed one substitution group under "
+        f"{grouping}, conservative; and the rest, variable. Columns with fewer than {rules['min_neff']:g} "
+        "effective sequences were flagged as low-data. "
+        + frame_sentence
+        + " Sequence logos show information in bits with the small-sample correction of Schneider et al. (1986)."
+    )
+    return text
+
+
+CONTRAST_CITATIONS = [
+    "Lin J (1991) Divergence measures based on the Shannon entropy. IEEE Trans Inf Theory 37:145-151.",
+    "Miller GA (1955) Note on the bias of information estimates. In: Quastler H (ed) Information Theory in "
+    "Psychology. Free Press, pp 95-100.",
+    "Sokal RR, Rohlf FJ (1995) Biometry, 3rd edn. Freeman (the G-test of independence).",
+]
+
+
+PERMUTATION_CITATION = ["Good P (2005) Permutation, Parametric, and Bootstrap Tests of Hypotheses, 3rd edn. "
+                         "Springer."]
+
+
+
+def contrast_methods_text(meta: dict) -> str:
+    """The methods sentences of a group contrast, from the metadata of its table."""
+    group_text = ", ".join(f"{g} ({v['rows']} sequences, {v['effective_size']:.1f} effective)"
+                           for g, v in meta["groups"].items())
+    return (
+        f"Positions that distinguish the groups {group_text} were scored by the generalised Jensen-Shannon "
+        "divergence of the groups' weighted residue distributions, each group weighted by its effective size "
+        "(Lin 1991), and by the mutual information between residue and group with the Miller-Madow correction "
+        "(Miller 1955); significance came from the G-test of the residue-by-group table (Sokal and Rohlf 1995)"
+        + (f" and from {meta['permutations']} permutations of the group labels" if meta["permutations"] else "")
+        + f". Groups with fewer than {meta['min_group_neff']:g} effective sequences were left out. A column was "
+        f"group-specific when every group's consensus carried at least {meta['conserved_min']:g} of its residue "
+        "weight and the consensus differed between groups, shared when the consensus was the same in all, "
+        f"gap-rich above a gap fraction of {meta['max_gaps']:g}, and mixed otherwise."
+    )
