@@ -14,9 +14,9 @@ import time
 
 import numpy as np
 
-from globcons.frame.reference import reference_chains
 from globcons.align.place import place_many
 from globcons.align.significance import DEFAULT_SHUFFLES
+from globcons.frame.reference import reference_chains
 
 
 def queries(count: int, seed: int = 1) -> list[tuple[str, str]]:

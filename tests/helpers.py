@@ -17,7 +17,7 @@ def alignment_of(*rows: str, ids: list[str] | None = None) -> Alignment:
 
 def write_fasta(path, rows: list[str], ids: list[str] | None = None) -> str:
     ids = ids or [f"r{i + 1}" for i in range(len(rows))]
-    path.write_text("".join(f">{i}\n{r}\n" for i, r in zip(ids, rows)))
+    path.write_text("".join(f">{i}\n{r}\n" for i, r in zip(ids, rows, strict=True)))
     return str(path)
 
 

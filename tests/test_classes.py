@@ -6,11 +6,10 @@ from Bio.Align import substitution_matrices
 
 from globcons.core.alphabet import RESIDUE_LETTERS
 from globcons.core.classes import ClassRules, classify
-from globcons.core.matrices import compatible_pairs
 from globcons.core.counts import column_counts
-from globcons.errors import OptionError
+from globcons.core.matrices import compatible_pairs
 from globcons.core.scores import gap_fraction, residue_frequencies
-
+from globcons.errors import OptionError
 from helpers import alignment_of
 
 
@@ -80,7 +79,7 @@ def test_low_data_flag_keeps_the_class():
 
 
 def test_threshold_validation():
-    for bad in (dict(max_gaps=1.5), dict(invariant_min=0), dict(group_min=2), dict(min_neff=-1)):
+    for bad in ({"max_gaps": 1.5}, {"invariant_min": 0}, {"group_min": 2}, {"min_neff": -1}):
         with pytest.raises(OptionError):
             ClassRules(**bad)
 

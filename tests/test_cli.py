@@ -34,8 +34,8 @@ import sys
 import pytest
 
 import globcons
-from globcons.cli import main
 from globcons.analysis.columns import COLUMN_ORDER
+from globcons.cli import main
 
 ALN = ">s1\nHAD-KWL\n>s2\nHSE-R-L\n>s3\nHADGK--\n>s4\nHSE-Y--\n"
 EXPECTED_CLASS = ["invariant", "conservative", "conservative", "gap-rich", "variable", "gap-rich", "invariant"]
@@ -100,7 +100,7 @@ def test_columns_csv(capsys, aln):
     rows = list(csv.reader(io.StringIO(out)))
     assert rows[0] == list(COLUMN_ORDER)
     assert len(rows) == 8
-    body = [dict(zip(rows[0], r)) for r in rows[1:]]
+    body = [dict(zip(rows[0], r, strict=True)) for r in rows[1:]]
     assert [r["class"] for r in body] == EXPECTED_CLASS
     # residues with a comma inside are quoted, so the csv still has one field per column
     assert [r["residues"] for r in body] == EXPECTED_RESIDUES

@@ -6,12 +6,11 @@ import numpy as np
 import pytest
 
 from globcons import read_alignment, score_columns, summarise
+from globcons.analysis.columns import COLUMN_ORDER
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import GAP, STANDARD
-from globcons.analysis.columns import COLUMN_ORDER
 from globcons.demo import demo_alignment_path
 from globcons.errors import OptionError
-
 from helpers import alignment_of
 
 ROOT = Path(__file__).resolve().parent.parent

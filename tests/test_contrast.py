@@ -16,17 +16,17 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from helpers import alignment_of
 from scipy.spatial.distance import jensenshannon
 from scipy.stats import chi2, chi2_contingency, entropy, kstest
 
-from globcons.core.alphabet import N_CODES
-from globcons.cli import main
 from globcons.analysis.contrast import assign_groups, contrast_columns, group_counts, read_groups
-from globcons.core.vocabulary import CONTRAST_CLASSES
-from globcons.plots.contrast import draw_contrast
+from globcons.cli import main
+from globcons.core.alphabet import N_CODES
 from globcons.core.counts import column_counts
+from globcons.core.vocabulary import CONTRAST_CLASSES
 from globcons.errors import InputError, OptionError
+from globcons.plots.contrast import draw_contrast
+from helpers import alignment_of
 
 LETTERS = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
 
@@ -241,8 +241,8 @@ def test_small_group_is_left_out_and_reported():
 
 @pytest.fixture(scope="module")
 def reference_frame():
-    from globcons.frame.reference import reference_chains
     from globcons.align.layout import align_to_frame
+    from globcons.frame.reference import reference_chains
 
     chains = [(c.name, c.mature_sequence) for c in reference_chains()]
     return align_to_frame(chains, shuffles=0).to_alignment()
@@ -285,7 +285,7 @@ def write_planted(tmp_path):
     path = tmp_path / "planted.fasta"
     path.write_text("".join(f">{i}\n{aln.row(k)}\n" for k, i in enumerate(aln.ids)))
     groups_path = tmp_path / "groups.tsv"
-    groups_path.write_text("".join(f"{i}\t{g}\n" for i, g in zip(aln.ids, groups)))
+    groups_path.write_text("".join(f"{i}\t{g}\n" for i, g in zip(aln.ids, groups, strict=True)))
     return str(path), str(groups_path)
 
 

@@ -10,8 +10,8 @@ from Bio.Align import PairwiseAligner, substitution_matrices
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from globcons.core.alphabet import N_CODES, STANDARD
 from globcons.align.dp import GapCosts, Placement, align, align_scores
+from globcons.core.alphabet import N_CODES, STANDARD
 
 NEG = -math.inf
 
@@ -54,7 +54,7 @@ def path_score(S, gaps: GapCosts, query, placement: Placement) -> float:
     assert matched[0] == (placement.query_start, placement.profile_start)
     assert matched[-1] == (placement.query_end - 1, placement.profile_end - 1)
     total = sum(float(S[c][int(query[i])]) for i, c in matched)
-    for (i1, c1), (i2, c2) in zip(matched, matched[1:]):
+    for (i1, c1), (i2, c2) in zip(matched, matched[1:], strict=False):
         inserted, deleted = i2 - i1 - 1, c2 - c1 - 1
         assert inserted >= 0 and deleted >= 0, "matches must advance on both sequences"
         assert not (inserted and deleted), "the model has no insertion next to a deletion"
@@ -102,7 +102,7 @@ def test_scores_and_paths_match_reference(integer):
         assert got.dtype == np.float64 and got.shape == (len(queries),)
         np.testing.assert_allclose(got, expected, rtol=0, atol=1e-9)
         placements = align(S, gaps, queries)
-        for q, p, e in zip(queries, placements, expected):
+        for q, p, e in zip(queries, placements, expected, strict=True):
             assert p.column_of_residue.dtype == np.int64
             assert p.score == pytest.approx(e, abs=1e-9)
             assert path_score(S, gaps, q, p) == pytest.approx(e, abs=1e-9)
@@ -118,7 +118,7 @@ def test_reference_property(m, seed, lengths):
     queries = [rng.integers(0, N_CODES, n).astype(np.uint8) for n in lengths]
     expected = [reference_score(S, gaps, q) for q in queries]
     np.testing.assert_allclose(align_scores(S, gaps, queries), expected, rtol=0, atol=1e-9)
-    for q, p, e in zip(queries, align(S, gaps, queries), expected):
+    for q, p, e in zip(queries, align(S, gaps, queries), expected, strict=True):
         assert path_score(S, gaps, q, p) == pytest.approx(e, abs=1e-9)
 
 
@@ -139,7 +139,7 @@ def test_longer_queries_match_reference():
         queries.append(q.astype(np.uint8))
     expected = np.array([reference_score(S, gaps, q) for q in queries])
     np.testing.assert_allclose(align_scores(S, gaps, queries), expected, rtol=0, atol=1e-9)
-    for q, p, e in zip(queries, align(S, gaps, queries), expected):
+    for q, p, e in zip(queries, align(S, gaps, queries), expected, strict=True):
         assert path_score(S, gaps, q, p) == pytest.approx(e, abs=1e-9)
 
 
@@ -182,7 +182,7 @@ def switches_gap_side(alignment) -> bool:
     """Whether a Biopython alignment has a gap in one sequence directly next to a gap in the other."""
     steps = np.diff(alignment.coordinates, axis=1)
     kinds = ["T" if dq == 0 else "Q" if dt == 0 else "M" for dt, dq in steps.T]
-    return any({a, b} == {"T", "Q"} for a, b in zip(kinds, kinds[1:]))
+    return any({a, b} == {"T", "Q"} for a, b in zip(kinds, kinds[1:], strict=False))
 
 
 def make_fragments(rng: np.random.Generator, target: str) -> list[str]:
@@ -221,7 +221,7 @@ def test_matches_biopython_local(open_cost, extend_cost):
         gaps = GapCosts.constant(len(target), open_cost, extend_cost)
         fragments = make_fragments(rng, target) + [TARGETS[1 - TARGETS.index(target)][10:70]]
         ours = align_scores(S, gaps, [encode_standard(f) for f in fragments])
-        for fragment, score in zip(fragments, ours):
+        for fragment, score in zip(fragments, ours, strict=True):
             theirs = aligner.score(target, fragment)
             assert theirs > 0  # Biopython's local score is floored at 0; ours is not
             assert score <= theirs + 1e-9
@@ -260,7 +260,7 @@ def test_batching_does_not_change_results():
     for cells in (1, 50, 300, 10_000):
         assert np.array_equal(align_scores(S, gaps, queries, chunk_cells=cells), reference)
         other = align(S, gaps, queries, chunk_cells=cells)
-        for p, o in zip(placements, other):
+        for p, o in zip(placements, other, strict=True):
             assert o.score == p.score
             assert np.array_equal(o.column_of_residue, p.column_of_residue)
             assert (o.query_start, o.query_end, o.profile_start, o.profile_end) == \
@@ -348,7 +348,7 @@ def test_profile_of_one_column():
     gaps = random_gaps(rng, 1)
     queries = random_queries(rng, 20, 12)
     np.testing.assert_array_equal(align_scores(S, gaps, queries), [S[0, q].max() for q in queries])
-    for q, p in zip(queries, align(S, gaps, queries)):
+    for q, p in zip(queries, align(S, gaps, queries), strict=True):
         best = int(np.argmax(S[0, q]))
         assert p.column_of_residue.tolist() == [0 if i == best else -1 for i in range(q.shape[0])]
 

@@ -22,24 +22,32 @@ import matplotlib.image as mpimg
 import numpy as np
 import pandas as pd
 import pytest
-from matplotlib.patches import PathPatch
 from matplotlib.colors import to_hex
+from matplotlib.patches import PathPatch
 
 import globcons.cli.figures  # noqa: F401  (registers logo and profile on the group of globcons.cli)
 from globcons import read_alignment, score_columns
+from globcons.cli import main
 from globcons.core.alphabet import CODE_LETTERS, STANDARD
 from globcons.core.classes import CLASSES
-from globcons.cli import main
+from globcons.core.scores import small_sample_correction
 from globcons.demo import demo_alignment_path
 from globcons.errors import OptionError
-from globcons.core.scores import small_sample_correction
 from globcons.plots.conservation import draw_profile
 from globcons.plots.heatmap import DEVIATION_ORDER, departure_matrix, draw_departure_heatmap
 from globcons.plots.logo import column_range, draw_logo, information_matrix, logo_matrix
 from globcons.plots.output import FIGURE_DPI, figure_format, save_figure
-from globcons.plots.palette import (ABSENT_COLOUR, CLASS_COLOURS, DEVIATION_COLOURS, GROUP_COLOURS, OKABE_ITO,
-                              RESIDUE_COLOURS, TINTS, residue_colour, tint)
-
+from globcons.plots.palette import (
+    ABSENT_COLOUR,
+    CLASS_COLOURS,
+    DEVIATION_COLOURS,
+    GROUP_COLOURS,
+    OKABE_ITO,
+    RESIDUE_COLOURS,
+    TINTS,
+    residue_colour,
+    tint,
+)
 from helpers import alignment_of
 
 H = STANDARD.index("H")
@@ -358,8 +366,8 @@ def test_heatmap_thins_query_labels_beyond_200():
 
 
 def test_heatmap_of_a_real_scan(tmp_path):
-    from globcons.frame.reference import reference_chain
     from globcons.analysis.scan import scan
+    from globcons.frame.reference import reference_chain
 
     beta = reference_chain("human_hemoglobin_beta").full_sequence
     _, residues = scan([("beta", beta), ("beta_H92Y", beta[:92] + "Y" + beta[93:])], shuffles=0)

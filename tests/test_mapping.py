@@ -3,12 +3,12 @@
 import numpy as np
 
 from globcons import read_alignment, score_columns
+from globcons.align.anchor import map_columns
+from globcons.cli import main
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import BYTE_TO_CODE
-from globcons.cli import main
 from globcons.demo import demo_alignment_path
 from globcons.frame.reference import reference_chain
-from globcons.align.anchor import map_columns
 from globcons.frame.sites import column_sites
 
 MB = reference_chain("sperm_whale_myoglobin")
@@ -91,7 +91,7 @@ def test_align_then_columns_through_the_command_line(tmp_path, capsys):
         assert main(["columns", str(tmp_path / out), "--quiet", "--min-neff", "0"]) == 0
         lines = capsys.readouterr().out.splitlines()
         header = lines[0].split("\t")
-        rows = [dict(zip(header, line.split("\t"))) for line in lines[1:]]
+        rows = [dict(zip(header, line.split("\t"), strict=True)) for line in lines[1:]]
         f8 = [r for r in rows if r["frame_label"] == "F8"]
         assert len(f8) == 1 and f8[0]["consensus"] == "H" and f8[0]["class"] == "invariant"
         assert f8[0]["sites"] == "heme-ligand"
@@ -113,7 +113,7 @@ def test_user_sites_through_the_command_line(tmp_path, capsys):
                  "--quiet"]) == 0
     lines = capsys.readouterr().out.splitlines()
     header = lines[0].split("\t")
-    values = [dict(zip(header, line.split("\t")))["sites"] for line in lines[1:]]
+    values = [dict(zip(header, line.split("\t"), strict=True))["sites"] for line in lines[1:]]
     assert values[0] == "my-terminus" and set(values[1:]) == {""}
 
 

@@ -8,14 +8,13 @@ proximal His, myoglobin His64 = E7 the distal His) are nomenclature from memory,
 import numpy as np
 import pytest
 
-from globcons.cli import main
-from globcons.errors import OptionError
 from globcons.analysis.family import family_from_alignment
-from globcons.frame.reference import reference_chain
+from globcons.cli import main
 from globcons.core.vocabulary import CAUTION
+from globcons.errors import OptionError
+from globcons.frame.reference import reference_chain
 from globcons.mutations.judge import check, rank_sites
 from globcons.mutations.target import prepare_target
-
 from helpers import planted_family
 
 BETA = reference_chain("human_hemoglobin_beta")

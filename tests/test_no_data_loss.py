@@ -36,4 +36,4 @@ def test_demo_leaves_files_it_did_not_write(tmp_path):
     result = run_demo(tmp_path)
     assert mine.read_text() == "keep me" and other.read_text() == "<svg/>"
     assert (tmp_path / "columns.tsv").is_file() and result.report.is_file()
-    assert not [p for p in tmp_path.rglob("*.part")]
+    assert not list(tmp_path.rglob("*.part"))

@@ -264,7 +264,7 @@ def test_round_trip_every_style(wild, new, position, label, style, hgvs, predict
 def test_any_letter_case_of_three_letter_codes(wild, new, position, data):
     text = f"{THREE[wild]}{position}{THREE[new]}"
     flips = data.draw(st.lists(st.booleans(), min_size=len(text), max_size=len(text)))
-    mixed = "".join(ch.swapcase() if flip else ch for ch, flip in zip(text, flips))
+    mixed = "".join(ch.swapcase() if flip else ch for ch, flip in zip(text, flips, strict=True))
     m = parse_mutation(mixed)
     assert (m.wild, m.position, m.new, m.style) == (wild, position, new, "three-letter")
 

@@ -10,11 +10,11 @@ import pytest
 from Bio.Align import PairwiseAligner, substitution_matrices
 
 from globcons import score_columns
-from globcons.frame.reference import reference_chain, reference_chains
-from globcons.io.frame_labels import decode_labels, encode_labels
 from globcons.align.layout import align_to_frame
 from globcons.align.place import place, place_many
 from globcons.align.reference import reference_alignment
+from globcons.frame.reference import reference_chain, reference_chains
+from globcons.io.frame_labels import decode_labels, encode_labels
 
 SW_MB, HU_MB = "sperm_whale_myoglobin", "human_myoglobin"
 ALPHA, BETA = "human_hemoglobin_alpha", "human_hemoglobin_beta"
@@ -90,7 +90,7 @@ def test_results_do_not_depend_on_batch_composition():
     chains = [(c.name, c.full_sequence) for c in reference_chains()] + [("ngb", NEUROGLOBIN)]
     together = place_many(chains)
     alone = [place(sequence, id=name) for name, sequence in chains]
-    for a, b in zip(together, alone):
+    for a, b in zip(together, alone, strict=True):
         assert a.labels == b.labels and a.score == b.score and a.evalue == b.evalue
 
 

@@ -114,8 +114,8 @@ def test_random_fasta_reads_to_the_expected_codes(case):
     alignment = read_rows(data)
     expected = expected_codes(rows)
     # sanity of the expectation itself: only alphabet codes, gaps as 23, ambiguity codes as 22
-    for row, codes in zip(rows, expected):
-        for char, code in zip(row, codes):
+    for row, codes in zip(rows, expected, strict=True):
+        for char, code in zip(row, codes, strict=True):
             assert (code == 23) == (char in GAPS)
             assert (code == 22) == (char.upper() in "XBZJ")
             assert code <= 23

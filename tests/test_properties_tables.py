@@ -46,7 +46,7 @@ def test_zamyatnin_volumes(letter):
 
 def test_charges_at_neutral_ph():
     # +1 Lys, Arg; -1 Asp, Glu; His and everything else 0 (the usual convention).
-    expected = {letter: 0 for letter in STANDARD} | {"K": 1, "R": 1, "D": -1, "E": -1}
+    expected = dict.fromkeys(STANDARD, 0) | {"K": 1, "R": 1, "D": -1, "E": -1}
     assert dict(rp.CHARGE) == expected
 
 

@@ -9,8 +9,8 @@ import numpy as np
 import pytest
 
 from globcons import read_alignment
-from globcons.core.alignment import Alignment
 from globcons.cli import main
+from globcons.core.alignment import Alignment
 from globcons.demo import demo_alignment_path
 from globcons.report.html import write_report
 

@@ -9,9 +9,18 @@ from scipy.stats import entropy as scipy_entropy
 
 from globcons.core.alphabet import GAP, N_CODES, STANDARD, UNKNOWN
 from globcons.core.counts import column_counts
-from globcons.core.scores import (BLOSUM62_BACKGROUND, JSD_PSEUDOCOUNT, consensus, entropy_bits, gap_fraction,
-                             jsd_scores, property_entropy, residue_frequencies, residue_strings, smooth_window)
-
+from globcons.core.scores import (
+    BLOSUM62_BACKGROUND,
+    JSD_PSEUDOCOUNT,
+    consensus,
+    entropy_bits,
+    gap_fraction,
+    jsd_scores,
+    property_entropy,
+    residue_frequencies,
+    residue_strings,
+    smooth_window,
+)
 from helpers import alignment_of
 
 

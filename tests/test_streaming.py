@@ -16,14 +16,14 @@ import pandas as pd
 import pytest
 
 from globcons import read_alignment, score_columns
-from globcons.cli import main
+from globcons.analysis import streaming
 from globcons.analysis.options import ScoreOptions
+from globcons.analysis.streaming import plan_reading, stream_columns
+from globcons.cli import main
 from globcons.errors import InputError, OptionError
 from globcons.io.alignments import parse_alignment
-from globcons.io.fasta import parse_fasta_rows
-from globcons.analysis import streaming
-from globcons.analysis.streaming import plan_reading, stream_columns
 from globcons.io.chunks import record_chunks
+from globcons.io.fasta import parse_fasta_rows
 
 _LETTERS = "ACDEFGHIKLMNPQRSTVWY"
 _HAND_CODES = {letter: code for code, letter in enumerate(_LETTERS)}

@@ -20,13 +20,20 @@ from Bio.SeqUtils import seq3
 
 import globcons.cli  # noqa: F401  (the command group first, then the command registered on it)
 import globcons.cli.paint  # noqa: F401
-from globcons.cli import main
 from globcons.analysis.columns import score_columns
+from globcons.cli import main
 from globcons.demo import demo_alignment_path
 from globcons.errors import InputError, InputWarning, OptionError
 from globcons.frame.reference import reference_chain
 from globcons.io.alignments import read_alignment
-from globcons.structure.paint import SCORES, SENTINEL, map_chain_to_alignment, mapping_stats, paint_structure, score_values
+from globcons.structure.paint import (
+    SCORES,
+    SENTINEL,
+    map_chain_to_alignment,
+    mapping_stats,
+    paint_structure,
+    score_values,
+)
 from globcons.structure.read import chain_residues, read_structure
 
 FIRST = 81  # residue number of the first Trp

@@ -3,9 +3,8 @@
 import numpy as np
 import pytest
 
-from globcons.errors import OptionError
 from globcons.core.weights import cluster_weights, compute_weights, distinct_rows, henikoff_weights
-
+from globcons.errors import OptionError
 from helpers import alignment_of
 
 

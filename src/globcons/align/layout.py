@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Iterable
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -47,7 +48,7 @@ class FrameAlignment:
     def ids(self) -> tuple[str, ...]:
         return tuple(p.id for p in self.placed)
 
-    def summary(self) -> "pd.DataFrame":
+    def summary(self) -> pd.DataFrame:
         """One row per sequence: nearest reference, identity, score, E-value, helix coverage, residues left out."""
         import pandas as pd
 

@@ -19,9 +19,9 @@ gap costs that are higher inside helices than in corners and termini. Then, per 
 
 from __future__ import annotations
 
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
-from typing import Iterable, Mapping
 
 import numpy as np
 

@@ -142,7 +142,7 @@ def _alpha_ce_placement(alpha: ReferenceChain, beta: ReferenceChain) -> dict[str
     return placement
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def reference_alignment() -> ReferenceAlignment:
     """The reference chains aligned on the frame's columns (see the module notes)."""
     chains = reference_chains()

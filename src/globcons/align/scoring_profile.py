@@ -39,7 +39,7 @@ _OCCUPANCY_TOLERANCE = 1e-9
 
 
 def query_codes(sequence: str) -> np.ndarray:
-    """Codes of a query sequence for placement: residues as themselves, anything else (stops, gaps, odd bytes) unknown."""
+    """Codes of a query for placement: residues as themselves, anything else (stops, gaps, odd bytes) unknown."""
     codes = encode(sequence).copy()
     codes[codes >= GAP] = UNKNOWN
     return codes
@@ -147,7 +147,7 @@ def profile_from_counts(name: str, counts: np.ndarray, labels: tuple[str, ...], 
                    gap_scheme.costs(in_helix, segments, occupancy))
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def frame_profile(matrix: str = DEFAULT_MATRIX, gap_scheme: GapScheme = GapScheme()) -> Profile:
     """The built-in profile: the frame's reference alignment, Henikoff-weighted."""
     reference = reference_alignment()

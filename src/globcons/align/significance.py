@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import functools
 import zlib
-from typing import Sequence
+from collections.abc import Sequence
 
 import numpy as np
 
@@ -51,7 +51,7 @@ def shuffled(codes_list: Sequence[np.ndarray], copies: int) -> list[np.ndarray]:
     return shuffled
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def gumbel_scale(profile: Profile) -> float:
     """Gumbel scale beta from shuffled reference chains (pooled, each centred on its own mean)."""
     reference = reference_alignment()

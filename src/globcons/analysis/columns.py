@@ -19,8 +19,15 @@ from globcons.analysis.options import ScoreOptions, options_from_keywords
 from globcons.analysis.summary import ColumnSummary, summarise_alignment
 from globcons.core.alignment import Alignment
 from globcons.core.classes import CLASSES, column_statistics
-from globcons.core.scores import (PROPERTY_CLASSES, consensus, jsd_scores, property_entropy, residue_strings,
-                                  smooth_window, unknown_fraction)
+from globcons.core.scores import (
+    PROPERTY_CLASSES,
+    consensus,
+    jsd_scores,
+    property_entropy,
+    residue_strings,
+    smooth_window,
+    unknown_fraction,
+)
 from globcons.errors import OptionError
 from globcons.frame.sites import Site, column_sites, sites
 
@@ -28,8 +35,8 @@ __all__ = ["COLUMN_ORDER", "score_columns", "table_from_summary", "read_user_sit
 
 
 #: Order of the table's columns (``ref_position`` and ``ref_residue`` follow ``column`` with a reference).
-COLUMN_ORDER = ("column", "frame_label", "sites", "class", "low_data", "consensus", "residues", "entropy_bits", "entropy_norm",
-                "property_entropy", "jsd", "gap_fraction", "unknown_fraction", "n_eff")
+COLUMN_ORDER = ("column", "frame_label", "sites", "class", "low_data", "consensus", "residues", "entropy_bits",
+                "entropy_norm", "property_entropy", "jsd", "gap_fraction", "unknown_fraction", "n_eff")
 
 
 def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **kwargs) -> pd.DataFrame:

@@ -53,8 +53,8 @@ import math
 import os
 import re
 import warnings
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
@@ -548,7 +548,8 @@ def top_contrast(table: pd.DataFrame, n: int = 12) -> pd.DataFrame:
 def summarise_contrast(table: pd.DataFrame) -> str:
     """One line: groups with their sizes, columns by class, left-out groups and rows."""
     meta = table.attrs
-    groups = ", ".join(f"{g} ({v['rows']} rows, {v['effective_size']:.1f} effective)" for g, v in meta["groups"].items())
+    groups = ", ".join(f"{g} ({v['rows']} rows, {v['effective_size']:.1f} effective)"
+                       for g, v in meta["groups"].items())
     counts = ", ".join(f"{meta['class_counts'][c]} {c}" for c in CONTRAST_CLASSES)
     line = f"{meta['columns']} columns, groups {groups}: {counts}"
     if meta["left_out_groups"]:

@@ -26,8 +26,8 @@ when the position is not covered. Flags (``flags``, comma-separated) are documen
 from __future__ import annotations
 
 import os
+from collections.abc import Iterable, Iterator
 from concurrent.futures import ProcessPoolExecutor
-from typing import Iterable, Iterator
 
 import numpy as np
 import pandas as pd

@@ -163,7 +163,8 @@ def summarise_file(source: str | os.PathLike | BinaryIO, options: ScoreOptions, 
     options
         The scoring options (``weights`` must be ``henikoff`` or ``none``).
     chunk_rows
-        Records per chunk (None: about :data:`~globcons.io.chunks.CHUNK_BYTES` per chunk). Memory grows with it; the result
+        Records per chunk (None: about :data:`~globcons.io.chunks.CHUNK_BYTES` per chunk). Memory grows with it;
+        the result
         does not depend on it.
     format
         ``"fasta"`` or ``"a2m"``; None: from a ``.a2m`` name, else sniffed.

@@ -8,8 +8,8 @@ bit-identical counts, and :func:`globcons.analysis.columns.table_from_summary` m
 
 from __future__ import annotations
 
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Callable, Iterable, Iterator, Mapping, Sequence
 
 import numpy as np
 

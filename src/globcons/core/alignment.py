@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from types import MappingProxyType
-from typing import Mapping
 
 import numpy as np
 
@@ -81,7 +81,7 @@ class Alignment:
                 raise ValueError(f"{len(labels)} frame labels for {codes.shape[1]} columns")
             object.__setattr__(self, "frame_labels", labels)
 
-    def with_frame_labels(self, labels: tuple[str, ...] | list[str] | None, source: str) -> "Alignment":
+    def with_frame_labels(self, labels: tuple[str, ...] | list[str] | None, source: str) -> Alignment:
         """A copy carrying ``labels`` (one per column) as its frame labels, read from ``source``."""
         return replace(self, frame_labels=None if labels is None else tuple(labels),
                        frame_labels_from=source if labels is not None else "")

@@ -11,7 +11,7 @@ Substitution matrices have no rows for U and O: they are scored as the residue t
 
 from __future__ import annotations
 
-from functools import lru_cache
+from functools import cache
 
 import numpy as np
 
@@ -25,7 +25,7 @@ DEFAULT_MATRIX = "BLOSUM62"
 UNKNOWN_SCORE = -1.0
 
 
-@lru_cache(maxsize=None)
+@cache
 def load_matrix(name: str = DEFAULT_MATRIX):
     """A substitution matrix Biopython ships (``Bio.Align.substitution_matrices``), checked to cover the 20 residues.
 
@@ -56,7 +56,7 @@ def matrix_score(name: str, wild: str, new: str) -> float:
     return float(matrix[a][b])
 
 
-@lru_cache(maxsize=None)
+@cache
 def substitution_table(matrix: str = DEFAULT_MATRIX) -> np.ndarray:
     """(22, 24) scores of residue code a (rows) against every code b (columns), as floats.
 
@@ -74,7 +74,7 @@ def substitution_table(matrix: str = DEFAULT_MATRIX) -> np.ndarray:
     return table
 
 
-@lru_cache(maxsize=None)
+@cache
 def compatible_pairs(matrix: str = DEFAULT_MATRIX, residue_groups: str | None = None) -> np.ndarray:
     """Which residue pairs may share a conservative column.
 

@@ -20,9 +20,9 @@ Where each table comes from is in :data:`SOURCES`; use it beside any number show
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
-from typing import Mapping
 
 import numpy as np
 
@@ -60,7 +60,7 @@ _VOLUME = {
 
 # Formal side-chain charge at pH 7. His (side-chain pKa near 6) is partly protonated at neutral pH;
 # counting it as 0 is common practice, and a buried or ligand-bound His can differ either way.
-_CHARGE = {letter: 0 for letter in STANDARD}
+_CHARGE = dict.fromkeys(STANDARD, 0)
 _CHARGE.update({"K": 1, "R": 1, "D": -1, "E": -1})
 
 #: Hydropathy index by one-letter code (Kyte & Doolittle 1982; see :data:`SOURCES`).

@@ -25,7 +25,16 @@ import math
 
 import numpy as np
 
-from globcons.core.alphabet import CODE_LETTERS, GAP, N_RESIDUES, N_STANDARD, RESIDUE_GROUPS, STANDARD, UNKNOWN, group_index
+from globcons.core.alphabet import (
+    CODE_LETTERS,
+    GAP,
+    N_RESIDUES,
+    N_STANDARD,
+    RESIDUE_GROUPS,
+    STANDARD,
+    UNKNOWN,
+    group_index,
+)
 
 __all__ = [
     "BLOSUM62_BACKGROUND",

@@ -163,7 +163,7 @@ def _chain_labels(name: str, chain_segments: list[Segment], length: int) -> tupl
     return tuple(labels)
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def reference_chains() -> tuple[ReferenceChain, ...]:
     """The built-in reference chains, in the order of the package's FASTA file.
 
@@ -198,7 +198,7 @@ def reference_chains() -> tuple[ReferenceChain, ...]:
     return tuple(chains)
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _chain_index() -> dict[str, ReferenceChain]:
     return {chain.name: chain for chain in reference_chains()}
 
@@ -219,7 +219,7 @@ def reference_chain(name: str | ReferenceChain) -> ReferenceChain:
     return index[name]
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def label_positions(name: str) -> dict[str, int]:
     """Label -> mature position (1-based) of every residue of the reference chain ``name``."""
     return {label: i for i, label in enumerate(reference_chain(name).labels, 1)}

@@ -1,4 +1,4 @@
-"""Functional sites of the globin frame: the built-in list (package data) or a user's table, and the sites of each column.
+"""Functional sites of the globin frame: the built-in list (package data) or a user's table, and each column's sites.
 
 A site is a frame label (or, in a user's table, an alignment column) with its role, a short kind
 (``heme-ligand``...), the chains it is listed for, a literature pointer and how certain the entry is.
@@ -127,7 +127,7 @@ def _read_sites(text: str, source: str) -> tuple[Site, ...]:
     return tuple(found)
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _builtin_sites() -> tuple[Site, ...]:
     name = "functional_sites.tsv"
     return _read_sites(data_text(name), name)
@@ -152,7 +152,8 @@ def sites(chain: str | ReferenceChain | None = None,
         all chains at ``CD4`` is left out for alpha, which names that stretch ``CE``).
     path
         A tab-separated table to use instead of the built-in list. Columns: ``label`` or ``column``
-        (a 1-based alignment column, for families without frame labels) and ``role`` required; ``kind``, ``chains`` (``all`` or comma-separated chain
+        (a 1-based alignment column, for families without frame labels) and ``role`` required; ``kind``,
+        ``chains`` (``all`` or comma-separated chain
         names; empty means all), ``reference``, ``note``, ``certainty`` optional; other columns are
         ignored. Blank lines and lines starting with ``#`` are skipped.
 

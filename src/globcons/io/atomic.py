@@ -12,8 +12,9 @@ import os
 import stat
 import sys
 import tempfile
+from collections.abc import Iterable, Iterator
 from pathlib import Path
-from typing import IO, Iterable, Iterator
+from typing import IO
 
 from globcons.errors import OutputError
 
@@ -83,7 +84,8 @@ def atomic_output(path: str | os.PathLike | None, inputs: Iterable = (), binary:
     except OSError as exc:
         raise OutputError(f"cannot write in {folder} ({exc.strerror})", source=str(target)) from None
     try:
-        with os.fdopen(handle, "wb" if binary else "w", encoding=None if binary else "utf-8", newline=None if binary else "") as stream:
+        mode, encoding, newline = ("wb", None, None) if binary else ("w", "utf-8", "")
+        with os.fdopen(handle, mode, encoding=encoding, newline=newline) as stream:
             yield stream
             stream.flush()
             os.fsync(stream.fileno())

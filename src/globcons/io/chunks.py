@@ -10,7 +10,8 @@ gathers the ids and the rows a caller asks to keep.
 from __future__ import annotations
 
 import re
-from typing import BinaryIO, Iterator
+from collections.abc import Iterator
+from typing import BinaryIO
 
 import numpy as np
 

@@ -58,7 +58,7 @@ def _slice_bounds(newlines: np.ndarray, size: int, slice_bytes: int) -> list[tup
     ends = np.where(index < newlines.size, newlines[np.minimum(index, newlines.size - 1)] + 1, size)
     ends = np.unique(np.append(ends, size))
     starts = np.concatenate(([0], ends[:-1]))
-    return list(zip(starts.tolist(), ends.tolist()))
+    return list(zip(starts.tolist(), ends.tolist(), strict=True))
 
 
 def _layout(data: bytes, name: str, slice_bytes: int = SLICE_BYTES) -> _FastaLayout:
@@ -300,13 +300,13 @@ def _a2m_padded(codes: np.ndarray, is_insert: np.ndarray, lengths: np.ndarray, i
     slots = matches[0] + 1  # slot k holds the inserts after k match states
     widths = np.zeros(slots, dtype=np.int64)
     placed = []
-    for row_codes, row_insert in rows:
+    for _, row_insert in rows:
         slot = np.cumsum(~row_insert)
         widths = np.maximum(widths, np.bincount(slot[row_insert], minlength=slots))
         placed.append(slot)
     slot_start = np.concatenate(([0], np.cumsum(widths[:-1] + 1)))  # column of slot k's first insert
     matrix = np.full((len(ids), int(widths.sum()) + slots - 1), GAP, dtype=np.uint8)
-    for index, ((row_codes, row_insert), slot) in enumerate(zip(rows, placed)):
+    for index, ((row_codes, row_insert), slot) in enumerate(zip(rows, placed, strict=True)):
         column = slot_start[slot] - 1  # match state k sits just before slot k's inserts
         if row_insert.any():
             runs = np.flatnonzero(row_insert)

@@ -17,15 +17,16 @@ import shutil
 import sys
 import tempfile
 import zlib
+from collections.abc import Iterator
 from pathlib import Path
-from typing import BinaryIO, Iterator, Union
+from typing import BinaryIO
 
 from globcons.errors import InputError
 
 __all__ = ["PathLike", "GZIP_MAGIC", "BOM", "InputSource", "os_errors", "read_input_bytes", "read_checked",
            "read_text", "is_blank"]
 
-PathLike = Union[str, os.PathLike]
+PathLike = str | os.PathLike
 
 GZIP_MAGIC = b"\x1f\x8b"
 BOM = b"\xef\xbb\xbf"

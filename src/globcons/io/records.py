@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import io
 import re
-from typing import BinaryIO, Callable, Iterator, NamedTuple
+from collections.abc import Callable, Iterator
+from typing import BinaryIO, NamedTuple
 
 from globcons.errors import InputError
 from globcons.io.opening import BOM, InputSource, PathLike

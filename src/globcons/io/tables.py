@@ -10,8 +10,8 @@ import csv
 import json
 import math
 import os
+from collections.abc import Iterable, Mapping
 from pathlib import Path
-from typing import Iterable, Mapping
 
 import numpy as np
 import pandas as pd

@@ -31,7 +31,7 @@ research: see :data:`globcons.core.vocabulary.CAUTION`.
 
 from __future__ import annotations
 
-from typing import Iterable
+from collections.abc import Iterable
 
 import numpy as np
 import pandas as pd

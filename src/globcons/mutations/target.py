@@ -148,7 +148,7 @@ def as_target(target, family: Family | None, numbering: str) -> Target:
 
 
 def hgvs_cell(target: Target, given: int, new: str | None = None) -> str:
-    """HGVS name of the residue at ``given`` (``p.Glu7``, with ``new``: ``p.Glu7Val``); '' if the Met status is unknown."""
+    """HGVS name of the residue at ``given`` (``p.Glu7``; with ``new``, ``p.Glu7Val``); '' if the Met is unknown."""
     number = target.hgvs_position(given)
     if not number:
         return ""

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 import os
-from typing import Mapping, Sequence
+from collections.abc import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
@@ -101,7 +101,8 @@ def draw_contrast(table: pd.DataFrame, alignment: Alignment, groups: Sequence[st
         counts = group_counts(np.ascontiguousarray(alignment.codes[in_kept][:, columns - 1]),
                               np.array([index[n] for n in names_per_row[in_kept]], dtype=np.int64), len(kept),
                               row_weights[in_kept])
-        ticks = [str(label) if label else str(column) for label, column in zip(chosen["frame_label"], columns, strict=True)]
+        ticks = [str(label) if label else str(column)
+                 for label, column in zip(chosen["frame_label"], columns, strict=True)]
         for k, group in enumerate(kept):
             logo_ax = fig.add_subplot(grid[2 + k])
             stack_glyphs(logo_ax, information_bits(counts[k]), list(STANDARD))

@@ -8,7 +8,7 @@ for each cell (see :func:`_unit_glyph`); zero cells are never drawn. Colours are
 from __future__ import annotations
 
 import functools
-from typing import Sequence
+from collections.abc import Sequence
 
 import numpy as np
 from matplotlib.figure import Figure
@@ -25,7 +25,7 @@ GLYPH_WIDTH = 0.88
 GLYPH_VPAD = 0.04
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def _unit_glyph(letter: str):
     """logomaker's glyph path of ``letter`` at x = 0 filling y 0..1 (built once per letter).
 

@@ -9,8 +9,8 @@ from __future__ import annotations
 
 import os
 import re
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
-from typing import Iterable, Sequence
 
 import numpy as np
 import pandas as pd
@@ -161,7 +161,7 @@ def column_range(table: pd.DataFrame, spec: str, by: str = "auto") -> list[int]:
         where.setdefault(label, index)
     for part in parts:
         if part not in where:
-            present = [l for l in labels if l]
+            present = [label for label in labels if label]
             hint = f"labels run {present[0]}..{present[-1]}" if present else "the table has no frame labels"
             raise OptionError(f"--range {spec}: no column has the frame label {part} ({hint})")
     start, end = where[parts[0]], where[parts[-1]]

@@ -7,8 +7,8 @@ ever needed and a notebook's backend is left alone) and coloured only from :mod:
 from __future__ import annotations
 
 import os
+from collections.abc import Iterable
 from pathlib import Path
-from typing import Iterable
 
 from matplotlib.figure import Figure
 

@@ -114,14 +114,11 @@ RESIDUE_GROUPING = "mirny-shakhnovich-6"
 _GROUP_NAMES = ("aliphatic", "aromatic", "polar", "positive", "negative", "special")
 
 #: Group name -> (its letters, its colour); the letters are those of :data:`RESIDUE_GROUPING`, in order.
-GROUP_COLOURS: dict[str, tuple[str, str]] = dict(zip(_GROUP_NAMES, zip(RESIDUE_GROUPS[RESIDUE_GROUPING], (
-    OKABE_ITO["orange"],
-    OKABE_ITO["reddish purple"],
-    OKABE_ITO["bluish green"],
-    OKABE_ITO["blue"],
-    OKABE_ITO["vermillion"],
-    OKABE_ITO["black"],
-))))
+_GROUP_BASE_COLOURS = ("orange", "reddish purple", "bluish green", "blue", "vermillion", "black")
+GROUP_COLOURS: dict[str, tuple[str, str]] = {
+    name: (letters, OKABE_ITO[colour])
+    for name, letters, colour in zip(_GROUP_NAMES, RESIDUE_GROUPS[RESIDUE_GROUPING], _GROUP_BASE_COLOURS, strict=True)
+}
 
 
 def _residue_colours() -> dict[str, str]:

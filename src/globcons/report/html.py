@@ -42,8 +42,13 @@ from globcons.plots.conservation import draw_profile
 from globcons.plots.contrast import draw_contrast
 from globcons.plots.logo import draw_logo
 from globcons.plots.output import save_figure
-from globcons.report.methods import (CONTRAST_CITATIONS, PERMUTATION_CITATION, citations, contrast_methods_text,
-                                     methods_text)
+from globcons.report.methods import (
+    CONTRAST_CITATIONS,
+    PERMUTATION_CITATION,
+    citations,
+    contrast_methods_text,
+    methods_text,
+)
 
 __all__ = ["ReportResult", "write_report"]
 

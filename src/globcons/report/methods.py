@@ -34,6 +34,11 @@ def citations(meta: dict) -> list[str]:
     return cited
 
 
+def _evalue(frame: dict) -> float:
+    value = frame.get("evalue")
+    return float("nan") if value is None else float(value)
+
+
 def methods_text(table: pd.DataFrame) -> str:
     """The methods paragraph for a column table, from the options recorded in its metadata."""
     meta = table.attrs
@@ -54,10 +59,11 @@ def methods_text(table: pd.DataFrame) -> str:
         "anchor": (f"Columns were tied to the globin helix frame through the sequence {frame.get('anchor')}, placed "
                    "on a profile of four reference globins (Gribskov et al. 1987) by affine-gap alignment (Gotoh "
                    "1982) with helix-dependent gap costs; its significance came from shuffled copies (Karlin and "
-                   f"Altschul 1990; E-value {frame.get('evalue') if frame.get('evalue') is not None else float('nan'):.1e})."),
+                   f"Altschul 1990; E-value {_evalue(frame):.1e})."),
     }.get(frame.get("source"), "Columns were not tied to the globin helix frame.")
     text = (
-        f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of {Path(meta['input']).name} "
+        f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of "
+        f"{Path(meta['input']).name} "
         f"was computed with globcons {meta['version']}, using {weighting} "
         f"({meta['effective_sequences']:.1f} effective sequences). For each column, the weighted Shannon entropy "
         "over the 20 standard residues (Shannon 1948; gaps and unknown residues excluded), the entropy over six "

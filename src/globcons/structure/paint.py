@@ -42,9 +42,9 @@ import io
 import math
 import os
 import warnings
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterable, Iterator
 
 import numpy as np
 import pandas as pd
