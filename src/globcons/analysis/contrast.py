@@ -73,7 +73,7 @@ from globcons.frame.sites import column_sites
 from globcons.io.opening import read_text
 
 __all__ = ["CONTRAST_CLASSES", "NEAREST_GROUPS", "assign_groups", "read_groups", "contrast_columns",
-           "group_counts", "group_labels", "permutation_pvalues", "summarise_contrast", "top_contrast"]
+           "GroupedRows", "group_counts", "group_labels", "permutation_pvalues", "summarise_contrast", "top_contrast"]
 
 #: Group of each reference chain for ``--group-by nearest`` (rows that do not place as globins: ``other``).
 NEAREST_GROUPS: dict[str, str] = {
@@ -396,10 +396,16 @@ class GroupedRows:
             have = ", ".join(f"{g} ({v['effective_size']:.1f})" for g, v in sizes.items()) or "none"
             raise OptionError(f"need at least two groups with an effective size of at least {min_group_neff:g}; "
                               f"have {have}")
+        return cls.select(alignment, names, row_weights, kept, sizes)
+
+    @classmethod
+    def select(cls, alignment: Alignment, names: np.ndarray, row_weights: np.ndarray, kept: Sequence[str],
+               sizes: dict[str, dict[str, float]] | None = None) -> GroupedRows:
+        """The rows of the named groups ``kept``, in that group order."""
         index = {g: k for k, g in enumerate(kept)}
         in_kept = np.array([name in index for name in names], dtype=bool)
         labels = np.array([index[name] for name in names[in_kept]], dtype=np.int64)
-        return cls(kept, sizes, in_kept, np.ascontiguousarray(alignment.codes[in_kept]), labels,
+        return cls(tuple(kept), sizes or {}, in_kept, np.ascontiguousarray(alignment.codes[in_kept]), labels,
                    row_weights[in_kept])
 
 
@@ -428,6 +434,36 @@ _SCORE_WORDS = {
     "pvalue": "G-test of independence, chi-square with (r-1)(g-1) df",
     "pvalue_permutation": "(1 + #permuted G >= observed G) / (1 + K)",
 }
+
+
+def _contrast_metadata(alignment: Alignment, names: np.ndarray, grouped: GroupedRows, classes: np.ndarray,
+                       mapping: ColumnMapping, weights: str, identity: float, min_group_neff: float,
+                       conserved_min: float, rules: ClassRules, permutations: int, seed: int,
+                       reference: str | None) -> dict[str, object]:
+    return {
+        "tool": "globcons",
+        "version": __version__,
+        "input": alignment.source,
+        "format": alignment.format,
+        "sequences": alignment.n_rows,
+        "columns": alignment.n_columns,
+        "grouped_rows": int(grouped.in_kept.sum()),
+        "ungrouped_rows": int((names == "").sum()),
+        "weights": weights,
+        "identity": identity if weights == "cluster" else None,
+        "groups": {g: grouped.sizes[g] for g in grouped.kept},
+        "left_out_groups": {g: v for g, v in grouped.sizes.items() if g not in grouped.kept},
+        "min_group_neff": min_group_neff,
+        "conserved_min": conserved_min,
+        "max_gaps": rules.max_gaps,
+        "permutations": permutations,
+        "seed": seed if permutations else None,
+        "reference": reference,
+        "class_counts": {name: int((classes == name).sum()) for name in CONTRAST_CLASSES},
+        "frame": {"source": mapping.source, "anchor": mapping.anchor, "nearest_reference": mapping.nearest_reference,
+                  "note": mapping.note},
+        "scores": _SCORE_WORDS,
+    }
 
 
 def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mapping[str, str] | np.ndarray,
@@ -511,30 +547,8 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
     for k, g in enumerate(grouped.kept):
         data[f"conservation_{g}"] = conservation[k]
     table = pd.DataFrame(data)
-    table.attrs.update({
-        "tool": "globcons",
-        "version": __version__,
-        "input": alignment.source,
-        "format": alignment.format,
-        "sequences": alignment.n_rows,
-        "columns": alignment.n_columns,
-        "grouped_rows": int(grouped.in_kept.sum()),
-        "ungrouped_rows": int((names == "").sum()),
-        "weights": weights,
-        "identity": identity if weights == "cluster" else None,
-        "groups": {g: grouped.sizes[g] for g in grouped.kept},
-        "left_out_groups": {g: v for g, v in grouped.sizes.items() if g not in grouped.kept},
-        "min_group_neff": min_group_neff,
-        "conserved_min": conserved_min,
-        "max_gaps": rules.max_gaps,
-        "permutations": permutations,
-        "seed": seed if permutations else None,
-        "reference": reference,
-        "class_counts": {name: int((classes == name).sum()) for name in CONTRAST_CLASSES},
-        "frame": {"source": mapping.source, "anchor": mapping.anchor, "nearest_reference": mapping.nearest_reference,
-                  "note": mapping.note},
-        "scores": _SCORE_WORDS,
-    })
+    table.attrs.update(_contrast_metadata(alignment, names, grouped, classes, mapping, weights, identity,
+                                          min_group_neff, conserved_min, rules, permutations, seed, reference))
     return table
 
 

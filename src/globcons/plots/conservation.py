@@ -30,6 +30,30 @@ PROFILE_SCORES: dict[str, tuple[str, str]] = {
 }
 
 
+def _mark_sites(ax, sites_ax, shown: pd.DataFrame, labels: list[str], values: np.ndarray, width: float) -> np.ndarray:
+    """Mark the functional sites: a dashed line and ring on the plot, the name and kinds on the axes above.
+
+    Neighbouring sites (E7, E8) would print over each other, so their names are spread apart and tied to
+    their positions by short leader lines. Returns the positions (indices into ``shown``) of the sites.
+    """
+    sites = shown["sites"].astype(str).to_numpy() if "sites" in shown else np.array([""] * len(shown))
+    site_positions = np.flatnonzero(sites != "")
+    label_gap = 0.11 / (max(width - 2.4, 1.0) / max(len(shown), 1))  # ~ one 6.5 pt line, in positions
+    text_x = spread_labels(site_positions.astype(float), label_gap) if site_positions.size else site_positions
+    for index, where in zip(site_positions, text_x, strict=True):
+        ax.axvline(index, color=OKABE_ITO["black"], linewidth=0.5, linestyle=(0, (2, 2)), zorder=2)
+        sites_ax.plot([index, index, where], [0.0, 0.04, 0.12], color=OKABE_ITO["black"], linewidth=0.5)
+        name = labels[index] or f"col {int(shown['column'].iloc[index])}"
+        sites_ax.text(where, 0.14, f"{name} {sites[index].replace(',', ', ')}", rotation=90, ha="center",
+                      va="bottom", fontsize=6.5)
+    if site_positions.size:
+        ax.scatter(site_positions, values[site_positions], s=44, facecolors="none",
+                   edgecolors=OKABE_ITO["black"], linewidths=0.8, zorder=4)
+    sites_ax.set_ylim(0, 1)
+    sites_ax.axis("off")
+    return site_positions
+
+
 def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, score: str = "entropy_norm",
                  title: str | None = None, inputs: Iterable = ()) -> Figure:
     """Draw a conservation score along the frame, with the helices, column classes and functional sites.
@@ -86,23 +110,7 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
             ax.scatter(x[mask], values[mask], s=16, color=colour, edgecolors="none", zorder=3,
                        label=f"{name} ({int(mask.sum())})")
 
-    sites = shown["sites"].astype(str).to_numpy() if "sites" in shown else np.array([""] * len(shown))
-    site_positions = np.flatnonzero(sites != "")
-    # Neighbouring sites (E7, E8) would print over each other: their labels are spread apart and tied
-    # to their positions by short leader lines.
-    label_gap = 0.11 / (max(width - 2.4, 1.0) / max(len(shown), 1))  # ~ one 6.5 pt line, in positions
-    text_x = spread_labels(site_positions.astype(float), label_gap) if site_positions.size else site_positions
-    for index, where in zip(site_positions, text_x, strict=True):
-        ax.axvline(index, color=OKABE_ITO["black"], linewidth=0.5, linestyle=(0, (2, 2)), zorder=2)
-        sites_ax.plot([index, index, where], [0.0, 0.04, 0.12], color=OKABE_ITO["black"], linewidth=0.5)
-        name = labels[index] or f"col {int(shown['column'].iloc[index])}"
-        sites_ax.text(where, 0.14, f"{name} {sites[index].replace(',', ', ')}", rotation=90, ha="center",
-                      va="bottom", fontsize=6.5)
-    if site_positions.size:
-        ax.scatter(x[site_positions], values[site_positions], s=44, facecolors="none",
-                   edgecolors=OKABE_ITO["black"], linewidths=0.8, zorder=4)
-    sites_ax.set_ylim(0, 1)
-    sites_ax.axis("off")
+    site_positions = _mark_sites(ax, sites_ax, shown, labels, values, width)
 
     finite = values[np.isfinite(values)]
     top = 1.0 if score in ("entropy_norm", "gap_fraction") else (float(finite.max()) if finite.size else 1.0)

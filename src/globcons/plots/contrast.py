@@ -11,7 +11,7 @@ import pandas as pd
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
-from globcons.analysis.contrast import group_counts, group_labels, top_contrast
+from globcons.analysis.contrast import GroupedRows, group_counts, group_labels, top_contrast
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import STANDARD
 from globcons.core.scores import LOG2_20, information_bits
@@ -23,6 +23,28 @@ from globcons.plots.output import figure_format, finish_figure
 from globcons.plots.palette import CONTRAST_COLOURS, OKABE_ITO, tinted
 
 __all__ = ["draw_contrast"]
+
+
+def _draw_group_logos(fig: Figure, grid, alignment: Alignment, groups, meta: dict, chosen: pd.DataFrame,
+                      columns: np.ndarray) -> None:
+    """One logo per kept group of the chosen columns, weighted as in the table (on the whole alignment)."""
+    kept = list(meta["groups"])
+    row_weights = compute_weights(alignment.codes, meta["weights"], meta.get("identity") or 0.8).values
+    grouped = GroupedRows.select(alignment, group_labels(alignment, groups), row_weights, kept)
+    counts = group_counts(np.ascontiguousarray(grouped.codes[:, columns - 1]), grouped.labels, len(kept),
+                          grouped.weights)
+    ticks = [str(label) if label else str(column)
+             for label, column in zip(chosen["frame_label"], columns, strict=True)]
+    for k, group in enumerate(kept):
+        logo_ax = fig.add_subplot(grid[2 + k])
+        stack_glyphs(logo_ax, information_bits(counts[k]), list(STANDARD))
+        logo_ax.set_xlim(-0.6, len(columns) - 0.4)
+        logo_ax.set_ylim(0.0, LOG2_20)
+        logo_ax.set_yticks([0, 2, 4])
+        logo_ax.set_ylabel(f"{group}\n(bits)", fontsize=8)
+        logo_ax.set_xticks(range(len(columns)), ticks if k == len(kept) - 1 else [""] * len(columns), fontsize=8)
+        logo_ax.spines[["top", "right"]].set_visible(False)
+    logo_ax.set_xlabel("top positions by contrast, in column order", fontsize=9)
 
 
 def draw_contrast(table: pd.DataFrame, alignment: Alignment, groups: Sequence[str | None] | Mapping[str, str],
@@ -94,26 +116,7 @@ def draw_contrast(table: pd.DataFrame, alignment: Alignment, groups: Sequence[st
     ax.legend(handles, names, loc="upper left", bbox_to_anchor=(1.0, 1.0), fontsize=7, frameon=False)
 
     if columns.size:
-        names_per_row = group_labels(alignment, groups)
-        row_weights = compute_weights(alignment.codes, meta["weights"], meta.get("identity") or 0.8).values
-        index = {g: k for k, g in enumerate(kept)}
-        in_kept = np.array([n in index for n in names_per_row], dtype=bool)
-        counts = group_counts(np.ascontiguousarray(alignment.codes[in_kept][:, columns - 1]),
-                              np.array([index[n] for n in names_per_row[in_kept]], dtype=np.int64), len(kept),
-                              row_weights[in_kept])
-        ticks = [str(label) if label else str(column)
-                 for label, column in zip(chosen["frame_label"], columns, strict=True)]
-        for k, group in enumerate(kept):
-            logo_ax = fig.add_subplot(grid[2 + k])
-            stack_glyphs(logo_ax, information_bits(counts[k]), list(STANDARD))
-            logo_ax.set_xlim(-0.6, len(columns) - 0.4)
-            logo_ax.set_ylim(0.0, LOG2_20)
-            logo_ax.set_yticks([0, 2, 4])
-            logo_ax.set_ylabel(f"{group}\n(bits)", fontsize=8)
-            logo_ax.set_xticks(range(len(columns)), ticks if k == len(kept) - 1 else [""] * len(columns),
-                               fontsize=8)
-            logo_ax.spines[["top", "right"]].set_visible(False)
-        logo_ax.set_xlabel("top positions by contrast, in column order", fontsize=9)
+        _draw_group_logos(fig, grid, alignment, groups, meta, chosen, columns)
     source = meta.get("input")
     heading = title if title is not None else (f"{os.path.basename(str(source))}: group contrast" if source
                                                else "group contrast")

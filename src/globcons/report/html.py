@@ -125,6 +125,68 @@ def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, s
     }
 
 
+def _write_tables(table: pd.DataFrame, folder: Path, inputs: list) -> list[str]:
+    meta = table.attrs
+    files = write_table(table, folder / "columns.tsv", "tsv", metadata=meta, inputs=inputs)
+    for ext in ("md", "tex"):
+        files += write_table(table, folder / f"columns.{ext}", ext, metadata=meta, inputs=inputs,
+                             caption=f"Column conservation of {Path(meta['input']).name}")
+    return files
+
+
+def _write_profile(table: pd.DataFrame, folder: Path, inputs: list, files: list[str]) -> str:
+    """Write profile.svg and .png; return the SVG as a data URI."""
+    figure = draw_profile(table)
+    for ext in ("svg", "png"):
+        save_figure(figure, folder / f"profile.{ext}", inputs)
+        files.append(str(folder / f"profile.{ext}"))
+    return _data_uri(folder / "profile.svg", "image/svg+xml")
+
+
+def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, inputs: list,
+                       files: list[str]) -> list[tuple[str, str]]:
+    """Write logo_<helix>.svg for every helix the columns carry; return (helix, data URI) pairs."""
+    meta, labels = table.attrs, table["frame_label"].tolist()
+    uris = []
+    for helix in HELICES:
+        columns = [int(c) for c, label in zip(table["column"], labels, strict=True)
+                   if label and segment_of(label) == helix]
+        if not columns:
+            continue
+        path = folder / f"logo_{helix}.svg"
+        figure = draw_logo(aligned, columns, weights=meta["weights"], labels=[labels[c - 1] for c in columns],
+                           max_gaps=meta["rules"]["max_gaps"], title=f"helix {helix}",
+                           identity=meta["identity"] or 0.8)
+        save_figure(figure, path, inputs)
+        files.append(str(path))
+        uris.append((helix, _data_uri(path, "image/svg+xml")))
+    return uris
+
+
+def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo_uris: list[tuple[str, str]],
+                 methods: str, references: list[str], contrast_section: dict | None) -> str:
+    from jinja2 import Environment  # only the report needs templates
+
+    meta = table.attrs
+    rows = [[(name, text_cell(value)) for name, value in zip(table.columns, record, strict=True)]
+            for record in table.itertuples(index=False, name=None)]
+    frame = meta.get("frame") or {}
+    notes = [frame.get("note", "")] if frame.get("source") == "none" else []
+    environment = Environment(autoescape=True, keep_trailing_newline=True)
+    template_text = (resources.files("globcons") / "data" / "templates" / "report.html.j2").read_text(encoding="utf-8")
+    return environment.from_string(template_text).render(
+        input_name=Path(meta["input"]).name, version=__version__,
+        generated=_dt.date.today().isoformat(), caution=CAUTION,
+        options=_options_list(table, aligned), sequences=meta["sequences"], effective=meta["effective_sequences"],
+        columns=meta["columns"], class_counts=list(meta["class_counts"].items()),
+        frame_note=frame.get("note", ""), profile_uri=profile_uri, logos=logo_uris,
+        sites=table[table["sites"] != ""].to_dict("records"),
+        low_data=meta["low_data_columns"], min_neff=f"{meta['rules']['min_neff']:g}", notes=notes,
+        table_columns=list(table.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
+        citations=references, contrast=contrast_section,
+    )
+
+
 def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.PathLike,
                  options: ScoreOptions | None = None, fmt: str | None = None, keep_inserts: bool = False,
                  logos: bool = True, contrast: dict | None = None) -> ReportResult:
@@ -133,17 +195,17 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     Parameters
     ----------
     alignment
-        A path (read with :func:`globcons.io.readers.read_alignment`) or an Alignment.
+        A path (read with :func:`globcons.io.read_alignment`) or an Alignment.
     out_dir
         The folder; files in it that the report does not write are left alone.
     options
-        Scoring options (defaults of :class:`~globcons.analysis.columns.ScoreOptions`).
+        Scoring options (defaults of :class:`~globcons.analysis.options.ScoreOptions`).
     logos
         Draw a logo of each helix (the slowest part).
     contrast
         Add the group contrast: keyword arguments ``groups_file`` or ``group_by`` (see
-        :func:`globcons.analysis.contrast.assign_groups`) and optionally ``min_group_neff``, ``permutations``, ``seed``,
-        ``conserved_min``, ``top`` (positions shown, default 12).
+        :func:`globcons.analysis.contrast.assign_groups`) and optionally ``min_group_neff``, ``permutations``,
+        ``seed``, ``conserved_min``, ``top`` (positions shown, default 12).
     """
     folder = Path(out_dir)
     if folder.exists() and not folder.is_dir():
@@ -154,38 +216,11 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     options = options or ScoreOptions()
     table = score_columns(aligned, options)
     folder.mkdir(parents=True, exist_ok=True)
-    files: list[str] = []
-    meta = table.attrs
-    files += write_table(table, folder / "columns.tsv", "tsv", metadata=meta, inputs=inputs)
-    for ext in ("md", "tex"):
-        files += write_table(table, folder / f"columns.{ext}", ext, metadata=meta, inputs=inputs,
-                             caption=f"Column conservation of {Path(meta['input']).name}")
-    profile_uri = ""
-    figure = draw_profile(table)
-    for ext in ("svg", "png"):
-        save_figure(figure, folder / f"profile.{ext}", inputs)
-        files.append(str(folder / f"profile.{ext}"))
-    profile_uri = _data_uri(folder / "profile.svg", "image/svg+xml")
-
-    logo_uris = []
-    labels = table["frame_label"].tolist()
-    if logos:
-        for helix in HELICES:
-            columns = [int(c) for c, label in zip(table["column"], labels, strict=True)
-                       if label and segment_of(label) == helix]
-            if not columns:
-                continue
-            path = folder / f"logo_{helix}.svg"
-            figure = draw_logo(aligned, columns, weights=meta["weights"], labels=[labels[c - 1] for c in columns],
-                                       max_gaps=meta["rules"]["max_gaps"], title=f"helix {helix}",
-                                       identity=meta["identity"] or 0.8)
-            save_figure(figure, path, inputs)
-            files.append(str(path))
-            logo_uris.append((helix, _data_uri(path, "image/svg+xml")))
-
+    files = _write_tables(table, folder, inputs)
+    profile_uri = _write_profile(table, folder, inputs, files)
+    logo_uris = _write_helix_logos(aligned, table, folder, inputs, files) if logos else []
     contrast_section = None
-    methods = methods_text(table)
-    references = citations(meta)
+    methods, references = methods_text(table), citations(table.attrs)
     if contrast:
         contrast_section = _contrast_section(aligned, folder, options, dict(contrast), inputs, files)
         methods += " " + contrast_section["methods"]
@@ -194,30 +229,8 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
                      + "\n".join(f"- {c}" for c in references) + "\n")
     files.append(str(folder / "methods.md"))
-
-    rows = [[(name, text_cell(value)) for name, value in zip(table.columns, record, strict=True)]
-            for record in table.itertuples(index=False, name=None)]
-    site_rows = table[table["sites"] != ""].to_dict("records")
-    notes = []
-    frame = meta.get("frame") or {}
-    if frame.get("source") == "none":
-        notes.append(frame.get("note", ""))
-    from jinja2 import Environment
-
-    environment = Environment(autoescape=True, keep_trailing_newline=True)
-    template_text = (resources.files("globcons") / "data" / "templates" / "report.html.j2").read_text(encoding="utf-8")
-    html = environment.from_string(template_text).render(
-        input_name=Path(meta["input"]).name, version=__version__,
-        generated=_dt.date.today().isoformat(), caution=CAUTION,
-        options=_options_list(table, aligned), sequences=meta["sequences"], effective=meta["effective_sequences"],
-        columns=meta["columns"], class_counts=list(meta["class_counts"].items()),
-        frame_note=frame.get("note", ""), profile_uri=profile_uri, logos=logo_uris, sites=site_rows,
-        low_data=meta["low_data_columns"], min_neff=f"{meta['rules']['min_neff']:g}", notes=notes,
-        table_columns=list(table.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
-        citations=references, contrast=contrast_section,
-    )
+    html = _render_html(table, aligned, profile_uri, logo_uris, methods, references, contrast_section)
     with atomic_output(folder / "report.html", inputs) as stream:
         stream.write(html)
     files.insert(0, str(folder / "report.html"))
     return ReportResult(folder, tuple(files), table)
-
