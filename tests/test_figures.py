@@ -25,7 +25,6 @@ import pytest
 from matplotlib.patches import PathPatch
 from matplotlib.colors import to_hex
 
-import globcons.cli.figures  # noqa: F401  (registers logo and profile on the group of globcons.cli)
 from globcons import read_alignment, score_columns
 from globcons.core.alphabet import CODE_LETTERS, STANDARD
 from globcons.core.classes import CLASSES
