@@ -417,9 +417,15 @@ def test_version(capsys):
 # through a real process
 
 
+# The process imports the globcons this one imported, also from another working directory (where a relative
+# PYTHONPATH would miss it).
+_SRC = os.path.dirname(os.path.dirname(os.path.abspath(globcons.__file__)))
+_ENV = {**os.environ, "PYTHONPATH": os.pathsep.join(filter(None, [_SRC, os.environ.get("PYTHONPATH")]))}
+
+
 def _process(*args, stdin: bytes | None = None, cwd=None) -> subprocess.CompletedProcess:
     return subprocess.run([sys.executable, "-m", "globcons", *map(str, args)], input=stdin,
-                          capture_output=True, cwd=cwd, timeout=120)
+                          capture_output=True, cwd=cwd, timeout=120, env=_ENV)
 
 
 def test_process_version():
