@@ -1,4 +1,4 @@
-"""Time placement on the globin frame (`globcons.align.place.place_many`) on synthetic globin-like queries.
+"""Time placement on the globin frame (`globcons.align.placement.place_many`) on synthetic globin-like queries.
 
 Queries are the four reference chains with 30% of their residues replaced at random (fixed seed;
 synthetic, no real data beyond the packaged reference chains). Reports queries per second with the
@@ -14,7 +14,7 @@ import time
 
 import numpy as np
 
-from globcons.align.place import place_many
+from globcons.align.placement import place_many
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.frame.reference import reference_chains
 

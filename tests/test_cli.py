@@ -417,9 +417,15 @@ def test_version(capsys):
 # through a real process
 
 
+# The process imports the globcons this one imported, also from another working directory (where a relative
+# PYTHONPATH would miss it).
+_SRC = os.path.dirname(os.path.dirname(os.path.abspath(globcons.__file__)))
+_ENV = {**os.environ, "PYTHONPATH": os.pathsep.join(filter(None, [_SRC, os.environ.get("PYTHONPATH")]))}
+
+
 def _process(*args, stdin: bytes | None = None, cwd=None) -> subprocess.CompletedProcess:
     return subprocess.run([sys.executable, "-m", "globcons", *map(str, args)], input=stdin,
-                          capture_output=True, cwd=cwd, timeout=120)
+                          capture_output=True, cwd=cwd, timeout=120, env=_ENV)
 
 
 def test_process_version():
@@ -446,3 +452,55 @@ def test_process_bad_input_exit_2(tmp_path):
     assert err.splitlines() == [err.splitlines()[0]] and err.startswith(f"globcons: error: {path}:4: ")
     assert "Traceback" not in err
     assert sorted(os.listdir(tmp_path)) == ["bad.fasta"]
+
+
+# --------------------------------------------------------------------------------------------------
+# the exit statuses main() promises for what is not bad input
+
+
+def _raise(error: BaseException):
+    def fail(*args, **kwargs):
+        raise error
+
+    return fail
+
+
+def test_internal_error_exit_1_in_one_line(capsys, aln, monkeypatch):
+    monkeypatch.setattr("globcons.analysis.columns.score_columns", _raise(RuntimeError("column 3 lost")))
+    status, out, err = run(capsys, "columns", aln)
+    assert status == 1 and out == ""
+    assert err == ("globcons: internal error: RuntimeError: column 3 lost (please report it; --debug shows the "
+                   "traceback)\n")
+
+
+def test_internal_error_with_debug_shows_traceback(capsys, aln, monkeypatch):
+    monkeypatch.setattr("globcons.analysis.columns.score_columns", _raise(RuntimeError("column 3 lost")))
+    status, _, err = run(capsys, "columns", aln, "--debug")
+    assert status == 1
+    assert err.startswith("Traceback (most recent call last):")
+    assert err.splitlines()[-1].startswith("globcons: internal error: RuntimeError: column 3 lost")
+
+
+def test_interrupt_exit_130(capsys, aln, monkeypatch):
+    monkeypatch.setattr("globcons.analysis.columns.score_columns", _raise(KeyboardInterrupt()))
+    status, out, err = run(capsys, "columns", aln)
+    assert (status, out, err) == (130, "", "\nglobcons: interrupted\n")  # click ends the interrupted line first
+
+
+def test_out_of_memory_exit_2(capsys, aln, monkeypatch):
+    monkeypatch.setattr("globcons.analysis.columns.score_columns", _raise(MemoryError()))
+    status, _, err = run(capsys, "columns", aln)
+    assert (status, err) == (2, "globcons: error: not enough memory for this input on this machine\n")
+
+
+def test_process_reader_gone_stops_quietly(tmp_path):
+    """The reader of standard output goes away (as `| head` does) before the table is written: no traceback,
+    no message, a failure status. (click ends such a run itself with status 1 before main() sees the broken
+    pipe, so main's 141 is not reached from inside a command.)"""
+    wide = tmp_path / "wide.fasta"
+    wide.write_text(">w1\n" + "ACDEFGHIKLMNPQRSTVWY" * 50 + "\n>w2\n" + "YWVTSRQPNMLKIHGFEDCA" * 50 + "\n")
+    process = subprocess.Popen([sys.executable, "-m", "globcons", "columns", wide, "--no-frame", "-q"],
+                               stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=_ENV)
+    process.stdout.close()  # long before the child has imported its libraries, let alone scored anything
+    assert process.wait(timeout=120) == 1
+    assert process.stderr.read() == b""

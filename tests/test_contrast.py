@@ -2,7 +2,7 @@
 
 Data: synthetic alignments with planted columns (built here from a seeded generator), and the four
 reference chains packaged in ``src/globcons/data/frame`` (UniProt P02185, P02144, P69905, P68871) placed
-on the frame with :func:`globcons.align.place.align_to_frame`.
+on the frame with :func:`globcons.align.placement.align_to_frame`.
 
 Reference values come from hand computation (written out beside each test) and from scipy:
 ``scipy.stats.entropy`` (Shannon entropy), ``scipy.spatial.distance.jensenshannon`` (Jensen-Shannon

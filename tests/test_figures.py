@@ -25,7 +25,6 @@ import pytest
 from matplotlib.colors import to_hex
 from matplotlib.patches import PathPatch
 
-import globcons.cli.figures  # noqa: F401  (registers logo and profile on the group of globcons.cli)
 from globcons import read_alignment, score_columns
 from globcons.cli import main
 from globcons.core.alphabet import CODE_LETTERS, STANDARD
@@ -366,7 +365,7 @@ def test_heatmap_thins_query_labels_beyond_200():
 
 
 def test_heatmap_of_a_real_scan(tmp_path):
-    from globcons.analysis.scan import scan
+    from globcons.analysis.scanning import scan
     from globcons.frame.reference import reference_chain
 
     beta = reference_chain("human_hemoglobin_beta").full_sequence

@@ -78,7 +78,7 @@ def test_structure_reader_on_structure_like_text(tmp_path, pieces):
 @given(st.lists(st.sampled_from(["label", "column", "role", "kind", "\t", "\n", "F8", "CE1", "12", "0", "x",
                                  "#", "all", "human_hemoglobin_alpha", ","]), max_size=20))
 def test_site_table_reader_on_arbitrary_text(tmp_path, pieces):
-    from globcons.frame.sites import sites
+    from globcons.frame.functional_sites import sites
 
     path = tmp_path / "sites.tsv"
     path.write_text("".join(pieces), encoding="utf-8")

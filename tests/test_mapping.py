@@ -8,8 +8,8 @@ from globcons.cli import main
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import BYTE_TO_CODE
 from globcons.demo import demo_alignment_path
+from globcons.frame.functional_sites import column_sites
 from globcons.frame.reference import reference_chain
-from globcons.frame.sites import column_sites
 
 MB = reference_chain("sperm_whale_myoglobin")
 
@@ -72,7 +72,7 @@ def test_column_sites_user_table_by_label_and_by_column(tmp_path):
     assert column_sites(labels) == ["heme-ligand", "distal-pocket", "", "heme-contact"]
     path = tmp_path / "mine.tsv"
     path.write_text("label\trole\tkind\nF8\tiron ligand\tmy-ligand\n", encoding="utf-8")
-    from globcons.frame.sites import sites
+    from globcons.frame.functional_sites import sites
     user = sites(path=path)
     assert column_sites(labels, user_sites=user)[0] == "heme-ligand,my-ligand"
     assert column_sites(labels, user_sites=user, replace=True) == ["my-ligand", "", "", ""]

@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from globcons.analysis.family import family_from_alignment
-from globcons.analysis.scan import scan
+from globcons.analysis.scanning import scan
 from globcons.cli import main
 from globcons.frame.reference import reference_chain, reference_chains
 from globcons.io.records import stream_records

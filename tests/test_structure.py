@@ -18,8 +18,6 @@ from Bio.PDB import MMCIFIO, MMCIFParser, PDBParser
 from Bio.PDB.MMCIF2Dict import MMCIF2Dict
 from Bio.SeqUtils import seq3
 
-import globcons.cli  # noqa: F401  (the command group first, then the command registered on it)
-import globcons.cli.paint  # noqa: F401
 from globcons.analysis.columns import score_columns
 from globcons.cli import main
 from globcons.demo import demo_alignment_path

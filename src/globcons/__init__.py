@@ -11,30 +11,22 @@ sites), ``align`` (placement on the frame), ``analysis`` (column table, family, 
 ``mutations``, ``plots``, ``structure``, ``report``, and the command line ``cli``.
 """
 
+from globcons._lazy import lazy_exports
 from globcons._version import __version__
-from globcons.analysis.columns import score_columns, summarise
-from globcons.analysis.options import ScoreOptions
-from globcons.core.alignment import Alignment
-from globcons.core.classes import CLASSES, ClassRules
-from globcons.core.weights import compute_weights
 from globcons.errors import GlobconsError, InputError, InputWarning, OptionError, OutputError
-from globcons.io.alignments import read_alignment
-from globcons.io.records import read_sequences
 
-__all__ = [
-    "__version__",
-    "Alignment",
-    "CLASSES",
-    "ClassRules",
-    "ScoreOptions",
-    "score_columns",
-    "summarise",
-    "read_alignment",
-    "read_sequences",
-    "compute_weights",
-    "GlobconsError",
-    "InputError",
-    "InputWarning",
-    "OptionError",
-    "OutputError",
-]
+# Names that need numpy, pandas or Biopython load on first use, so that importing a light module (the
+# command line's group and its --help) does not pay for the whole library.
+_EXPORTS = {
+    "Alignment": "globcons.core.alignment",
+    "CLASSES": "globcons.core.classes",
+    "ClassRules": "globcons.core.classes",
+    "ScoreOptions": "globcons.analysis.options",
+    "score_columns": "globcons.analysis.columns",
+    "summarise": "globcons.analysis.columns",
+    "read_alignment": "globcons.io.alignments",
+    "read_sequences": "globcons.io.records",
+    "compute_weights": "globcons.core.weights",
+}
+__all__ = ["__version__", *_EXPORTS, "GlobconsError", "InputError", "InputWarning", "OptionError", "OutputError"]
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

@@ -71,7 +71,7 @@ def run_demo(out_dir: str | os.PathLike = "globcons-demo", full: bool = True) ->
         return DemoResult(table, summarise(table), tuple(files))
 
     from globcons.analysis.family import family_from_alignment
-    from globcons.analysis.scan import scan
+    from globcons.analysis.scanning import scan
     from globcons.core.vocabulary import CAUTION
     from globcons.mutations.judge import check
     from globcons.mutations.notation import read_mutation_file

@@ -7,10 +7,18 @@
 ((93, 'H'), 'human_hemoglobin_beta', True)
 """
 
-from globcons.align.anchor import ColumnMapping, map_columns
-from globcons.align.layout import FrameAlignment, align_to_frame
-from globcons.align.place import PlacedSequence, place, place_many
-from globcons.align.significance import DEFAULT_SHUFFLES, GLOBIN_EVALUE
+from globcons._lazy import lazy_exports
 
-__all__ = ["PlacedSequence", "place", "place_many", "FrameAlignment", "align_to_frame", "ColumnMapping",
-           "map_columns", "GLOBIN_EVALUE", "DEFAULT_SHUFFLES"]
+_EXPORTS = {
+    "PlacedSequence": "globcons.align.placement",
+    "place": "globcons.align.placement",
+    "place_many": "globcons.align.placement",
+    "FrameAlignment": "globcons.align.layout",
+    "align_to_frame": "globcons.align.layout",
+    "ColumnMapping": "globcons.align.anchor",
+    "map_columns": "globcons.align.anchor",
+    "GLOBIN_EVALUE": "globcons.align.significance",
+    "DEFAULT_SHUFFLES": "globcons.align.significance",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

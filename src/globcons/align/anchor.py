@@ -6,7 +6,7 @@ Labels come, in this order of preference, from
    read with the file: the ``#=GC frame_*`` lines that ``globcons align`` writes into Stockholm output, or
    the sidecar table beside a FASTA output);
 2. an anchor row: ``--reference ID``, or else the row that places best among the rows with the most
-   residues; its residues are placed on the frame (:mod:`globcons.align.place`) and each alignment column
+   residues; its residues are placed on the frame (:mod:`globcons.align.placement`) and each alignment column
    takes the label of the anchor residue in it. Columns where the anchor has a gap get no label.
 
 When no row places significantly (the family may not be globins), no labels are given and the summary says
@@ -19,7 +19,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from globcons.align.place import PlacedSequence, place_many
+from globcons.align.placement import PlacedSequence, place_many
 from globcons.align.significance import GLOBIN_EVALUE
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import GAP, N_RESIDUES, decode

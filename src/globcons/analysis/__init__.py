@@ -1,11 +1,20 @@
 """Layer 5, analyses: the column table (in memory or streamed), the family to judge against, scan, contrast."""
 
-from globcons.analysis.columns import COLUMN_ORDER, score_columns, summarise
-from globcons.analysis.contrast import assign_groups, contrast_columns
-from globcons.analysis.family import Family, family_from_alignment, frame_family
-from globcons.analysis.options import ScoreOptions
-from globcons.analysis.scan import iter_scan, scan
-from globcons.analysis.streaming import stream_columns
+from globcons._lazy import lazy_exports
 
-__all__ = ["COLUMN_ORDER", "ScoreOptions", "score_columns", "stream_columns", "summarise", "Family", "frame_family",
-           "family_from_alignment", "scan", "iter_scan", "assign_groups", "contrast_columns"]
+_EXPORTS = {
+    "COLUMN_ORDER": "globcons.analysis.columns",
+    "ScoreOptions": "globcons.analysis.options",
+    "score_columns": "globcons.analysis.columns",
+    "stream_columns": "globcons.analysis.streaming",
+    "summarise": "globcons.analysis.columns",
+    "Family": "globcons.analysis.family",
+    "frame_family": "globcons.analysis.family",
+    "family_from_alignment": "globcons.analysis.family",
+    "scan": "globcons.analysis.scanning",
+    "iter_scan": "globcons.analysis.scanning",
+    "assign_groups": "globcons.analysis.contrast",
+    "contrast_columns": "globcons.analysis.contrast",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

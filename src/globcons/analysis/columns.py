@@ -29,7 +29,7 @@ from globcons.core.scores import (
     unknown_fraction,
 )
 from globcons.errors import OptionError
-from globcons.frame.sites import Site, column_sites, sites
+from globcons.frame.functional_sites import Site, column_sites, sites
 
 __all__ = ["COLUMN_ORDER", "score_columns", "table_from_summary", "read_user_sites", "summarise"]
 

@@ -69,7 +69,7 @@ from globcons.core.scores import consensus, entropy_norm, gap_fraction, shannon_
 from globcons.core.vocabulary import CONTRAST_CLASSES
 from globcons.core.weights import compute_weights
 from globcons.errors import InputError, InputWarning, OptionError
-from globcons.frame.sites import column_sites
+from globcons.frame.functional_sites import column_sites
 from globcons.io.opening import read_text
 
 __all__ = ["CONTRAST_CLASSES", "NEAREST_GROUPS", "assign_groups", "read_groups", "contrast_columns",
@@ -151,7 +151,7 @@ def _groups_by_regex(ids: Sequence[str], pattern: str) -> np.ndarray:
 
 
 def _groups_by_nearest(alignment: Alignment, shuffles: int) -> np.ndarray:
-    from globcons.align.place import place_many  # placement is only needed for this grouping
+    from globcons.align.placement import place_many  # placement is only needed for this grouping
 
     result = np.full(alignment.n_rows, "", dtype=object)
     rows = [i for i in range(alignment.n_rows) if (alignment.codes[i] < N_RESIDUES).any()]

@@ -36,9 +36,10 @@ from globcons.core.weights import CLUSTER_MAX_ROWS
 from globcons.errors import InputWarning, OptionError
 from globcons.io.checks import unique_ids
 from globcons.io.chunks import STREAM_FORMATS, ChunkedFasta, chunk_rows_for, reblock
+from globcons.io.formats import FORMATS, format_from_name
 from globcons.io.frame_labels import carried_labels
 from globcons.io.opening import BOM, GZIP_MAGIC, InputSource, read_checked
-from globcons.io.sniff import FORMATS, format_from_name, sniff_format
+from globcons.io.sniff import sniff_format
 
 __all__ = ["ReadPlan", "available_memory", "plan_reading", "summarise_file", "stream_columns"]
 

@@ -1,63 +1,60 @@
-"""The `globcons contrast` command (registered on the main group when :mod:`globcons.cli` loads)."""
+"""``globcons contrast``: the columns that set groups of sequences apart."""
 
 from __future__ import annotations
 
 import os
-from typing import Callable
+from collections.abc import Mapping
+from typing import TYPE_CHECKING, Any
 
 import click
 
-__all__ = ["contrast", "grouping_options", "contrast_from_options"]
+from globcons.cli.options import alignment_argument, grouping_options, reader_options
+from globcons.cli.reporting import Reporter, common
+from globcons.core.weights import SCHEMES
+from globcons.io.formats import TABLE_FORMATS
+
+if TYPE_CHECKING:
+    import numpy as np
+    import pandas as pd
+
+    from globcons.core.alignment import Alignment
+
+__all__ = ["contrast", "contrast_from_options"]
 
 
-# Defined before importing .cli: `python -m globcons.cli` imports this module while globcons.cli is still
-# loading, and cli_report (loaded from there) needs grouping_options.
-def grouping_options(command: Callable) -> Callable:
-    """--groups, --group-by, --min-group-neff, --permutations, --seed, --conserved-min (also used by `report`)."""
-    options = [
-        click.option("--groups", "groups_file", type=click.Path(dir_okay=False), default=None,
-                     help="Tab-separated table: id, group (a header line is optional)."),
-        click.option("--group-by", default=None, metavar="REGEX|nearest",
-                     help="Group by the text a regular expression with one capture group finds in each id, or "
-                          "'nearest': myoglobin-like, alpha-like, beta-like or other, from placement."),
-        click.option("--min-group-neff", type=float, default=3.0, show_default=True,
-                     help="Leave out groups whose effective size (summed weight) is smaller."),
-        click.option("--permutations", type=click.IntRange(0, 100000), default=0, show_default=True,
-                     help="Add a permutation p-value from K shuffles of the group labels (0: off)."),
-        click.option("--seed", type=int, default=0, show_default=True, help="Seed of the permutations."),
-        click.option("--conserved-min", type=float, default=0.8, show_default=True,
-                     help="Share of a group's residue weight its consensus needs for the group to be conserved."),
-    ]
-    for option in reversed(options):
-        command = option(command)
-    return command
+def contrast_from_options(aligned: Alignment, kw: Mapping[str, Any], weights: str, identity: float, max_gaps: float,
+                          reference: str | None = None, frame: bool = True) -> tuple[np.ndarray, pd.DataFrame]:
+    """Assign the groups and compute the contrast table from the command's options.
 
+    Parameters
+    ----------
+    aligned
+        The alignment.
+    kw
+        The command's :func:`~globcons.cli.options.grouping_options` values.
+    weights, identity, max_gaps, reference, frame
+        As ``--weights``, ``--identity``, ``--max-gaps``, ``--reference`` and not ``--no-frame``.
 
-
-from globcons.cli import _alignment_argument, _common, _reader_options, _Reporter, cli  # noqa: E402
-from globcons.errors import OptionError  # noqa: E402
-from globcons.io.atomic import check_not_input
-from globcons.io.tables import TABLE_FORMATS, write_table  # noqa: E402
-from globcons.core.weights import SCHEMES  # noqa: E402
-
-
-def contrast_from_options(aligned, kw: dict, weights: str, identity: float, max_gaps: float,
-                          reference: str | None = None, frame: bool = True):
-    """Assign the groups and compute the contrast table from the command's options: (groups, table)."""
-    from globcons.core.classes import ClassRules
+    Returns
+    -------
+    groups, table
+        The group assignment (:func:`globcons.analysis.contrast.assign_groups`) and the contrast table.
+    """
     from globcons.analysis.contrast import assign_groups, contrast_columns
+    from globcons.core.classes import ClassRules
+    from globcons.errors import OptionError
 
     if (kw.get("groups_file") is None) == (kw.get("group_by") is None):
         raise OptionError("give either --groups FILE or --group-by REGEX|nearest")
     groups = assign_groups(aligned, groups_file=kw.get("groups_file"), group_by=kw.get("group_by"))
     return groups, contrast_columns(aligned, groups, weights=weights, identity=identity,
-                            min_group_neff=kw["min_group_neff"], permutations=kw["permutations"], seed=kw["seed"],
-                            rules=ClassRules(max_gaps=max_gaps), conserved_min=kw["conserved_min"],
-                            reference=reference, frame=frame)
+                                    min_group_neff=kw["min_group_neff"], permutations=kw["permutations"],
+                                    seed=kw["seed"], rules=ClassRules(max_gaps=max_gaps),
+                                    conserved_min=kw["conserved_min"], reference=reference, frame=frame)
 
 
-@cli.command()
-@_alignment_argument
+@click.command()
+@alignment_argument
 @grouping_options
 @click.option("-o", "--output", default=None, help="Output file (default: standard output; '-' too).")
 @click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
@@ -73,11 +70,11 @@ def contrast_from_options(aligned, kw: dict, weights: str, identity: float, max_
 @click.option("--identity", type=float, default=0.8, show_default=True, help="Identity threshold of --weights cluster.")
 @click.option("--max-gaps", type=float, default=0.5, show_default=True,
               help="A column (or a group in it) with a larger weighted gap fraction is gap-rich (not conserved).")
-@_reader_options
-@_common
+@reader_options
+@common
 def contrast(alignment: str, output: str | None, table_format: str | None, figure_path: str | None, top: int,
              reference: str | None, no_frame: bool, weights: str, identity: float, max_gaps: float, fmt: str | None,
-             keep_inserts: bool, reporter: _Reporter, **kw) -> None:
+             keep_inserts: bool, reporter: Reporter, **kw: Any) -> None:
     """Find the columns of ALIGNMENT that set groups of sequences apart.
 
     Per column: each group's consensus and conservation, the contrast between the groups (Jensen-Shannon
@@ -87,13 +84,15 @@ def contrast(alignment: str, output: str | None, table_format: str | None, figur
     """
     from globcons.analysis.contrast import summarise_contrast, top_contrast
     from globcons.io.alignments import read_alignment
+    from globcons.io.atomic import check_not_input
+    from globcons.io.tables import write_table
 
     inputs = [alignment, kw.get("groups_file")]
     for path in (output, figure_path):
         if path is not None:
             check_not_input(path, inputs)
     if figure_path is not None:
-        from globcons.plots.output import figure_format
+        from globcons.plots.output import figure_format  # matplotlib only when a figure is asked for
 
         figure_format(figure_path)
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)

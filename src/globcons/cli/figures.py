@@ -1,53 +1,53 @@
-"""The figure commands, ``globcons logo`` and ``globcons profile``, registered on the main command group.
-
-Imported at the end of :mod:`globcons.cli`, once the group and its shared options exist.
-"""
+"""The figure commands, ``globcons logo`` and ``globcons profile``."""
 
 from __future__ import annotations
 
 import os
+from typing import Any
 
 import click
 
-from globcons.cli import (_alignment_argument, _common, _frame_options, _reader_options, _score_options, _scoring_options,
-                  cli)
-from globcons.analysis.columns import score_columns
-from globcons.errors import OptionError
-from globcons.plots.conservation import PROFILE_SCORES, draw_profile
-from globcons.plots.logo import column_range, draw_logo
-from globcons.plots.output import FIGURE_FORMATS, figure_format
-from globcons.io.alignments import read_alignment
-from globcons.io.atomic import check_not_input
+from globcons.cli.options import alignment_argument, frame_options, reader_options, score_options, scoring_options
+from globcons.cli.reporting import Reporter, common
+from globcons.plots.conservation import PROFILE_SCORES  # the figure commands need matplotlib anyway
+from globcons.plots.output import FIGURE_FORMATS
 
 __all__ = ["logo", "profile"]
 
 _OUTPUT_HELP = f"Figure file; the format follows the extension ({', '.join(FIGURE_FORMATS)})."
 
 
-@cli.command()
-@_alignment_argument
+@click.command()
+@alignment_argument
 @click.option("-o", "--output", required=True, help=_OUTPUT_HELP)
 @click.option("--range", "label_range", default=None, metavar="FIRST-LAST",
               help="Frame labels to draw, both ends included, e.g. F1-FG5 or E7.")
 @click.option("--columns", "column_spec", default=None, metavar="FIRST-LAST",
               help="Alignment columns to draw (1-based, inclusive), e.g. 80-100.")
-@_frame_options
+@frame_options
 @click.option("--title", default=None, help="Figure title (default: the file and the region).")
-@_reader_options
-@_scoring_options
-@_common
+@reader_options
+@scoring_options
+@common
 def logo(alignment: str, output: str, label_range: str | None, column_spec: str | None, title: str | None,
-         fmt: str | None, keep_inserts: bool, reporter, **kw) -> None:
+         fmt: str | None, keep_inserts: bool, reporter: Reporter, **kw: Any) -> None:
     """Draw a weighted sequence logo of ALIGNMENT (all columns, or a --range / --columns region).
 
     Letter heights are information in bits with the small-sample correction; gap-rich columns are
     hatched bands without letters; the x axis carries the frame labels.
     """
+    from globcons.analysis.columns import score_columns
+    from globcons.errors import OptionError
+    from globcons.io.alignments import read_alignment
+    from globcons.io.atomic import check_not_input
+    from globcons.plots.logo import column_range, draw_logo
+    from globcons.plots.output import figure_format
+
     if label_range is not None and column_spec is not None:
         raise click.UsageError("give --range or --columns, not both")
     figure_format(output)
     check_not_input(output, [alignment])
-    options = _score_options(kw)
+    options = score_options(kw)
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
     table = score_columns(aligned, options)
     if label_range is not None:
@@ -70,26 +70,32 @@ def logo(alignment: str, output: str, label_range: str | None, column_spec: str 
                   f"({table.attrs['effective_sequences']:.1f} effective, {options.weights} weights); wrote {output}")
 
 
-@cli.command()
-@_alignment_argument
+@click.command()
+@alignment_argument
 @click.option("-o", "--output", required=True, help=_OUTPUT_HELP)
 @click.option("--score", type=click.Choice(tuple(PROFILE_SCORES)), default="entropy_norm", show_default=True,
               help="Score to plot (entropy_norm is drawn as 1 - entropy_norm: up = more conserved).")
-@_frame_options
+@frame_options
 @click.option("--title", default=None, help="Figure title (default: the file and the score).")
-@_reader_options
-@_scoring_options
-@_common
+@reader_options
+@scoring_options
+@common
 def profile(alignment: str, output: str, score: str, title: str | None, fmt: str | None, keep_inserts: bool,
-            reporter, **kw) -> None:
+            reporter: Reporter, **kw: Any) -> None:
     """Draw a conservation score of ALIGNMENT along the frame positions.
 
     Helices are labelled bands, markers are coloured by column class, functional sites are marked and named.
     """
+    from globcons.analysis.columns import score_columns
+    from globcons.io.alignments import read_alignment
+    from globcons.io.atomic import check_not_input
+    from globcons.plots.conservation import draw_profile
+    from globcons.plots.output import figure_format
+
     figure_format(output)
     check_not_input(output, [alignment, kw.get("sites_path")])
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
-    table = score_columns(aligned, _score_options(kw))
+    table = score_columns(aligned, score_options(kw))
     draw_profile(table, output, score=score, title=title, inputs=[alignment, kw.get("sites_path")])
     labelled = int((table["frame_label"] != "").sum())
     shown = labelled or len(table)

@@ -1,18 +1,20 @@
-"""The `globcons report` command (registered on the main group when :mod:`globcons.cli` loads)."""
+"""``globcons report``: the offline report of an alignment (HTML, tables, figures, methods text)."""
 
 from __future__ import annotations
 
 import os
+from typing import Any
 
 import click
 
-from globcons.cli import _alignment_argument, _common, _reader_options, _Reporter, _score_options, _scoring_options, cli
-from globcons.cli.contrast import grouping_options
-from globcons.io.atomic import check_not_input
+from globcons.cli.options import alignment_argument, grouping_options, reader_options, score_options, scoring_options
+from globcons.cli.reporting import Reporter, common
+
+__all__ = ["report"]
 
 
-@cli.command()
-@_alignment_argument
+@click.command()
+@alignment_argument
 @click.option("-o", "--output", "out_dir", required=True,
               help="Folder for report.html, the tables, the figures and methods.md (created if missing).")
 @click.option("--reference", default=None, help="Tie the frame through this row (and add its numbering).")
@@ -22,17 +24,18 @@ from globcons.io.atomic import check_not_input
 @click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame.")
 @click.option("--no-logos", is_flag=True, help="Skip the logos of each helix (the slowest part).")
 @grouping_options
-@_reader_options
-@_scoring_options
-@_common
+@reader_options
+@scoring_options
+@common
 def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no_logos: bool,
-           reporter: _Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
-           permutations: int, seed: int, conserved_min: float, **kw) -> None:
+           reporter: Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
+           permutations: int, seed: int, conserved_min: float, **kw: Any) -> None:
     """Write an offline report of ALIGNMENT: report.html (self-contained), tables, figures, methods text.
 
     With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv.
     """
     from globcons.errors import OptionError
+    from globcons.io.atomic import check_not_input
     from globcons.report.html import write_report
 
     check_not_input(os.path.join(out_dir, "report.html"), [alignment, groups_file])
@@ -42,7 +45,7 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no
     if groups_file is not None or group_by is not None:
         contrast = {"groups_file": groups_file, "group_by": group_by, "min_group_neff": min_group_neff,
                     "permutations": permutations, "seed": seed, "conserved_min": conserved_min}
-    result = write_report(alignment, out_dir, _score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
+    result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
                           logos=not no_logos, contrast=contrast)
     counts = result.table.attrs["class_counts"]
     reporter.info(f"{result.table.attrs['columns']} columns: " + ", ".join(f"{v} {k}" for k, v in counts.items()))

@@ -3,10 +3,18 @@
 Everything here is pure computation on numpy arrays: no file is read or written, nothing is printed.
 """
 
-from globcons.core.alignment import Alignment
-from globcons.core.classes import CLASSES, ClassRules, ColumnStatistics, column_statistics
-from globcons.core.counts import column_counts
-from globcons.core.weights import SCHEMES, Weights, compute_weights
+from globcons._lazy import lazy_exports
 
-__all__ = ["Alignment", "CLASSES", "ClassRules", "ColumnStatistics", "column_statistics", "column_counts",
-           "SCHEMES", "Weights", "compute_weights"]
+_EXPORTS = {
+    "Alignment": "globcons.core.alignment",
+    "CLASSES": "globcons.core.classes",
+    "ClassRules": "globcons.core.classes",
+    "ColumnStatistics": "globcons.core.classes",
+    "column_statistics": "globcons.core.classes",
+    "column_counts": "globcons.core.counts",
+    "SCHEMES": "globcons.core.weights",
+    "Weights": "globcons.core.weights",
+    "compute_weights": "globcons.core.weights",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

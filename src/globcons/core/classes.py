@@ -21,7 +21,7 @@ import numpy as np
 
 from globcons.core.alphabet import GROUP_SOURCES, N_RESIDUES, RESIDUE_GROUPS
 from globcons.core.matrices import DEFAULT_MATRIX, compatible_pairs, load_matrix
-from globcons.core.scores import entropy_bits, gap_fraction, residue_frequencies
+from globcons.core.scores import LOG2_20, entropy_bits, gap_fraction, residue_frequencies
 from globcons.core.vocabulary import CLASSES
 from globcons.errors import OptionError
 
@@ -155,7 +155,7 @@ class ColumnStatistics:
     @property
     def entropy_norm(self) -> np.ndarray:
         """Entropy over log2(20): 0 invariant, 1 all twenty residues alike."""
-        return self.entropy_bits / np.log2(20)
+        return self.entropy_bits / LOG2_20
 
 
 def column_statistics(counts: np.ndarray, rules: ClassRules = ClassRules()) -> ColumnStatistics:

@@ -11,29 +11,28 @@ corners named by their two helices (``AB``, ``CD``, ``EF``, ``FG``, ``GH``; alph
 'p.Glu7Val'
 """
 
-from globcons.core.labels import FRAME_ORDER, HELICES, is_helix, is_label, segment_of, split_label
-from globcons.frame.numbering import NUMBERINGS, hgvs_name, label_of, position_of
-from globcons.frame.reference import ReferenceChain, Segment, reference_chain, reference_chains, segments
-from globcons.frame.sites import Site, column_sites, sites, sites_at
+from globcons._lazy import lazy_exports
 
-__all__ = [
-    "FRAME_ORDER",
-    "HELICES",
-    "NUMBERINGS",
-    "ReferenceChain",
-    "Segment",
-    "Site",
-    "column_sites",
-    "hgvs_name",
-    "is_helix",
-    "is_label",
-    "label_of",
-    "position_of",
-    "reference_chain",
-    "reference_chains",
-    "segment_of",
-    "segments",
-    "sites",
-    "sites_at",
-    "split_label",
-]
+_EXPORTS = {
+    "FRAME_ORDER": "globcons.core.labels",
+    "HELICES": "globcons.core.labels",
+    "NUMBERINGS": "globcons.frame.numbering",
+    "ReferenceChain": "globcons.frame.reference",
+    "Segment": "globcons.frame.reference",
+    "Site": "globcons.frame.functional_sites",
+    "column_sites": "globcons.frame.functional_sites",
+    "hgvs_name": "globcons.frame.numbering",
+    "is_helix": "globcons.core.labels",
+    "is_label": "globcons.core.labels",
+    "label_of": "globcons.frame.numbering",
+    "position_of": "globcons.frame.numbering",
+    "reference_chain": "globcons.frame.reference",
+    "reference_chains": "globcons.frame.reference",
+    "segment_of": "globcons.core.labels",
+    "segments": "globcons.frame.reference",
+    "sites": "globcons.frame.functional_sites",
+    "sites_at": "globcons.frame.functional_sites",
+    "split_label": "globcons.core.labels",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

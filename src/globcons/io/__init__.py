@@ -4,13 +4,23 @@ Every input goes through one opener (:class:`~globcons.io.opening.InputSource`: 
 input, binary streams, gzip); every output through one atomic writer (:func:`~globcons.io.atomic.atomic_output`).
 """
 
-from globcons.io.alignments import parse_alignment, read_alignment
-from globcons.io.atomic import atomic_output, check_not_input
-from globcons.io.records import SequenceRecord, read_sequences, stream_records
-from globcons.io.sniff import FORMATS, sniff_format
-from globcons.io.tables import TABLE_FORMATS, format_table, write_table
-from globcons.io.writers import ALIGNMENT_OUTPUTS, format_alignment
+from globcons._lazy import lazy_exports
 
-__all__ = ["FORMATS", "ALIGNMENT_OUTPUTS", "TABLE_FORMATS", "SequenceRecord", "parse_alignment", "read_alignment",
-           "read_sequences", "stream_records", "sniff_format", "format_alignment", "format_table", "write_table",
-           "atomic_output", "check_not_input"]
+_EXPORTS = {
+    "FORMATS": "globcons.io.formats",
+    "ALIGNMENT_OUTPUTS": "globcons.io.formats",
+    "TABLE_FORMATS": "globcons.io.formats",
+    "SequenceRecord": "globcons.io.records",
+    "parse_alignment": "globcons.io.alignments",
+    "read_alignment": "globcons.io.alignments",
+    "read_sequences": "globcons.io.records",
+    "stream_records": "globcons.io.records",
+    "sniff_format": "globcons.io.sniff",
+    "format_alignment": "globcons.io.writers",
+    "format_table": "globcons.io.tables",
+    "write_table": "globcons.io.tables",
+    "atomic_output": "globcons.io.atomic",
+    "check_not_input": "globcons.io.atomic",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

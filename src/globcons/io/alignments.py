@@ -15,10 +15,11 @@ from typing import BinaryIO
 from globcons.core.alignment import Alignment
 from globcons.errors import InputError, OptionError
 from globcons.io.fasta import parse_fasta
+from globcons.io.formats import FORMATS, format_from_name
 from globcons.io.frame_labels import carried_labels
 from globcons.io.opening import BOM, InputSource, PathLike, is_blank
 from globcons.io.phylip_nexus import parse_phylip_nexus
-from globcons.io.sniff import FORMATS, format_from_name, sniff_format, text_problem
+from globcons.io.sniff import sniff_format, text_problem
 from globcons.io.stockholm import parse_stockholm
 
 __all__ = ["parse_alignment", "read_alignment"]

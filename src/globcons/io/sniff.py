@@ -7,10 +7,8 @@ import re
 from globcons.errors import InputError
 from globcons.io.opening import is_blank
 
-__all__ = ["FORMATS", "sniff_format", "format_from_name", "text_problem"]
+__all__ = ["sniff_format", "text_problem"]
 
-#: Formats :func:`read_alignment` accepts (all open interchange formats).
-FORMATS = ("fasta", "a2m", "stockholm", "phylip", "nexus")
 
 
 
@@ -65,12 +63,4 @@ def sniff_format(data: bytes, name: str = "<input>") -> str:
     raise InputError("file holds only blank lines", source=name)
 
 
-def format_from_name(name: str) -> str | None:
-    """``"a2m"`` for a name ending in .a2m (or .a2m.gz), else None: A2M looks like FASTA inside."""
-    lowered = name.lower()
-    if lowered.endswith(".gz"):
-        lowered = lowered[:-3]
-    if lowered.endswith(".a2m"):
-        return "a2m"
-    return None
 

@@ -18,10 +18,10 @@ import pandas as pd
 
 from globcons.errors import OptionError
 from globcons.io.atomic import atomic_output, check_not_input
+from globcons.io.formats import TABLE_FORMATS, table_format_for
 
-__all__ = ["TABLE_FORMATS", "FLOAT_DIGITS", "format_table", "write_table", "table_format_for", "text_cell"]
+__all__ = ["FLOAT_DIGITS", "format_table", "write_table", "text_cell"]
 
-TABLE_FORMATS = ("tsv", "csv", "json", "md", "tex")
 FLOAT_DIGITS = 4
 
 
@@ -33,17 +33,6 @@ FLOAT_DIGITS = 4
 
 
 
-def table_format_for(path: str | os.PathLike | None, requested: str | None) -> str:
-    """The table format: as requested, else from the output's extension, else tsv."""
-    if requested:
-        if requested not in TABLE_FORMATS:
-            raise OptionError(f"unknown table format {requested!r}; choose one of {', '.join(TABLE_FORMATS)}")
-        return requested
-    if path is not None and str(path) != "-":
-        suffix = Path(path).suffix.lower().lstrip(".")
-        if suffix in TABLE_FORMATS:
-            return suffix
-    return "tsv"
 
 
 def text_cell(value: object) -> str:

@@ -2,32 +2,16 @@
 
 from __future__ import annotations
 
-import os
-
 from globcons.errors import OptionError
 
-__all__ = ["ALIGNMENT_OUTPUTS", "alignment_format_for", "format_alignment"]
+__all__ = ["format_alignment"]
 
 #: Characters per sequence line in FASTA and A2M output.
 LINE_WIDTH = 60
 
 
-ALIGNMENT_OUTPUTS = ("fasta", "stockholm", "a2m")
 
 
-def alignment_format_for(path: str | os.PathLike | None, requested: str | None = None) -> str:
-    """Output format of an alignment: as requested, else by extension (.sto/.stk Stockholm, .a2m), else FASTA."""
-    if requested:
-        if requested not in ALIGNMENT_OUTPUTS:
-            raise OptionError(f"unknown alignment output format {requested!r}; choose one of "
-                              f"{', '.join(ALIGNMENT_OUTPUTS)}")
-        return requested
-    name = str(path or "").lower().removesuffix(".gz")
-    if name.endswith((".sto", ".stk", ".stockholm")):
-        return "stockholm"
-    if name.endswith(".a2m"):
-        return "a2m"
-    return "fasta"
 
 
 def format_alignment(ids: list[str] | tuple[str, ...], rows: list[str], fmt: str,

@@ -4,9 +4,19 @@ Every result here is a research prediction from family conservation: see
 :data:`globcons.core.vocabulary.CAUTION`.
 """
 
-from globcons.mutations.judge import CHECK_COLUMNS, PLAN_COLUMNS, check, rank_sites
-from globcons.mutations.notation import Mutation, parse_mutation, parse_mutation_list, read_mutation_file
-from globcons.mutations.target import Target, prepare_target
+from globcons._lazy import lazy_exports
 
-__all__ = ["Mutation", "parse_mutation", "parse_mutation_list", "read_mutation_file", "Target", "prepare_target",
-           "check", "rank_sites", "CHECK_COLUMNS", "PLAN_COLUMNS"]
+_EXPORTS = {
+    "Mutation": "globcons.mutations.notation",
+    "parse_mutation": "globcons.mutations.notation",
+    "parse_mutation_list": "globcons.mutations.notation",
+    "read_mutation_file": "globcons.mutations.notation",
+    "Target": "globcons.mutations.target",
+    "prepare_target": "globcons.mutations.target",
+    "check": "globcons.mutations.judge",
+    "rank_sites": "globcons.mutations.judge",
+    "CHECK_COLUMNS": "globcons.mutations.judge",
+    "PLAN_COLUMNS": "globcons.mutations.judge",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

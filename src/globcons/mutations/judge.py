@@ -43,7 +43,7 @@ from globcons.core.matrices import matrix_score
 from globcons.core.properties import HYDROPATHY_ARRAY, is_charged, property_change
 from globcons.core.vocabulary import VERDICTS
 from globcons.errors import OptionError
-from globcons.frame.sites import Site, sites_at
+from globcons.frame.functional_sites import Site, sites_at
 from globcons.mutations.notation import Mutation, parse_mutation
 from globcons.mutations.target import Target, as_target, hgvs_cell
 

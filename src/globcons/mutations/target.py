@@ -13,7 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from globcons.align.dp import align
-from globcons.align.place import PlacedSequence, place
+from globcons.align.placement import PlacedSequence, place
 from globcons.align.scoring_profile import query_codes
 from globcons.analysis.family import Family, frame_family
 from globcons.core.alphabet import RESIDUE_LETTERS, THREE_LETTER

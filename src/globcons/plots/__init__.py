@@ -4,11 +4,16 @@ Figures are matplotlib ``Figure`` objects built without pyplot, coloured only fr
 :mod:`globcons.plots.palette`, written by extension (.png, .svg, .pdf) and atomically.
 """
 
-from globcons.plots.conservation import PROFILE_SCORES, draw_profile
-from globcons.plots.contrast import draw_contrast
-from globcons.plots.heatmap import draw_departure_heatmap
-from globcons.plots.logo import draw_logo
-from globcons.plots.output import FIGURE_FORMATS, save_figure
+from globcons._lazy import lazy_exports
 
-__all__ = ["FIGURE_FORMATS", "PROFILE_SCORES", "draw_logo", "draw_profile", "draw_departure_heatmap",
-           "draw_contrast", "save_figure"]
+_EXPORTS = {
+    "FIGURE_FORMATS": "globcons.plots.output",
+    "PROFILE_SCORES": "globcons.plots.conservation",
+    "draw_logo": "globcons.plots.logo",
+    "draw_profile": "globcons.plots.conservation",
+    "draw_departure_heatmap": "globcons.plots.heatmap",
+    "draw_contrast": "globcons.plots.contrast",
+    "save_figure": "globcons.plots.output",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

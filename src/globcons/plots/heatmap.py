@@ -56,7 +56,7 @@ def departure_matrix(residues: pd.DataFrame) -> DepartureMatrix:
     Parameters
     ----------
     residues
-        The per-residue table of :func:`globcons.analysis.scan.scan` (``id``, ``position``, ``frame_label``,
+        The per-residue table of :func:`globcons.analysis.scanning.scan` (``id``, ``position``, ``frame_label``,
         ``column``, ``deviation``).
 
     Notes

@@ -1,6 +1,11 @@
 """Layer 8, the offline report (self-contained HTML, tables, figures) and its methods text."""
 
-from globcons.report.html import ReportResult, write_report
-from globcons.report.methods import methods_text
+from globcons._lazy import lazy_exports
 
-__all__ = ["ReportResult", "write_report", "methods_text"]
+_EXPORTS = {
+    "ReportResult": "globcons.report.html",
+    "write_report": "globcons.report.html",
+    "methods_text": "globcons.report.methods",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

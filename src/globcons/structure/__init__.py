@@ -1,6 +1,13 @@
 """Layer 7, structures: reading PDB/mmCIF chains and painting column scores into their B-factors."""
 
-from globcons.structure.paint import SCORES, SENTINEL, paint_structure
-from globcons.structure.read import chain_residues, read_structure
+from globcons._lazy import lazy_exports
 
-__all__ = ["SCORES", "SENTINEL", "paint_structure", "read_structure", "chain_residues"]
+_EXPORTS = {
+    "SCORES": "globcons.structure.paint",
+    "SENTINEL": "globcons.structure.paint",
+    "paint_structure": "globcons.structure.paint",
+    "read_structure": "globcons.structure.read",
+    "chain_residues": "globcons.structure.read",
+}
+__all__ = list(_EXPORTS)
+__getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

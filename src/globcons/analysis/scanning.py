@@ -1,6 +1,6 @@
 """Scanning new sequences against the family: per-sequence verdicts and per-residue departures.
 
-Every query is placed on the globin frame (:mod:`globcons.align.place`): that gives its nearest reference chain,
+Every query is placed on the globin frame (:mod:`globcons.align.placement`): that gives its nearest reference chain,
 identity, significance, helix coverage and the residues at the key positions. Its departures are judged
 against a *family*: the built-in frame (the reference chains and the classes of their columns), or a
 user's alignment (``--family``), whose profile the query is aligned to, so that departures are judged
@@ -33,7 +33,7 @@ import numpy as np
 import pandas as pd
 
 from globcons.align.dp import align
-from globcons.align.place import PlacedSequence, place_many
+from globcons.align.placement import PlacedSequence, place_many
 from globcons.align.reference import reference_alignment
 from globcons.align.scoring_profile import frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES

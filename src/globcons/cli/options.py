@@ -1,0 +1,157 @@
+"""Options shared by several commands, and :func:`score_options`, which turns them into ``ScoreOptions``.
+
+The choice lists and defaults are the library's own constants, imported from the light modules that
+define them (numpy at most: no pandas, matplotlib, scipy). Options only one command has, and whose
+constants live with figures or structures, are defined in that command's module.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, TypeVar
+
+import click
+
+from globcons.align.significance import DEFAULT_SHUFFLES
+from globcons.core.alphabet import RESIDUE_GROUPS
+from globcons.core.weights import SCHEMES
+from globcons.io.formats import FORMATS, TABLE_FORMATS
+
+if TYPE_CHECKING:
+    from globcons.analysis.options import ScoreOptions
+
+__all__ = [
+    "alignment_argument",
+    "frame_options",
+    "grouping_options",
+    "reader_options",
+    "score_options",
+    "scoring_options",
+    "shuffles_option",
+    "target_options",
+]
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+RESIDUE_GROUP_NAMES = tuple(sorted(RESIDUE_GROUPS))
+
+
+def _apply(command: F, options: Sequence[Callable[[F], F]]) -> F:
+    """Apply option decorators so that they list in ``--help`` in the order given."""
+    for option in reversed(options):
+        command = option(command)
+    return command
+
+
+alignment_argument = click.argument("alignment", metavar="ALIGNMENT", type=click.Path(dir_okay=True, allow_dash=True))
+"""The ALIGNMENT argument (a path; '-' reads standard input)."""
+
+
+def reader_options(command: F) -> F:
+    """--format and --keep-inserts: how an alignment file is read."""
+    return _apply(command, [
+        click.option("--format", "fmt", type=click.Choice(FORMATS), default=None,
+                     help="Input format (default: sniffed from the content; .a2m selects A2M)."),
+        click.option("--keep-inserts", is_flag=True,
+                     help="A2M: keep insert states (lower case, '.') as columns instead of dropping them."),
+    ])
+
+
+def scoring_options(command: F) -> F:
+    """Weighting, class thresholds and smoothing of the column scores (read back by :func:`score_options`)."""
+    return _apply(command, [
+        click.option("--weights", type=click.Choice(SCHEMES), default="henikoff", show_default=True,
+                     help="Sequence weighting."),
+        click.option("--identity", type=float, default=0.8, show_default=True,
+                     help="Identity threshold of --weights cluster."),
+        click.option("--matrix", default="BLOSUM62", show_default=True,
+                     help="Substitution matrix (any Biopython ships) judging conservative groups."),
+        click.option("--residue-groups", type=click.Choice(RESIDUE_GROUP_NAMES), default=None,
+                     help="Judge conservative groups by a fixed reduced alphabet instead of the matrix."),
+        click.option("--max-gaps", type=float, default=0.5, show_default=True,
+                     help="A column with a larger weighted gap fraction is gap-rich."),
+        click.option("--invariant-min", type=float, default=1.0, show_default=True,
+                     help="Share of the residue weight one residue needs for invariant."),
+        click.option("--group-min", type=float, default=1.0, show_default=True,
+                     help="Share of the residue weight that must form one substitution group for conservative."),
+        click.option("--min-neff", type=float, default=5.0, show_default=True,
+                     help="Columns with fewer effective sequences are flagged low_data."),
+        click.option("--window", type=int, default=0, show_default=True,
+                     help="Smooth the JSD score over this many neighbours on each side (0: off)."),
+    ])
+
+
+def frame_options(command: F) -> F:
+    """How columns are tied to the globin frame and which sites they carry (shared by several commands)."""
+    return _apply(command, [
+        click.option("--reference", default=None,
+                     help="Add ref_position and ref_residue (the numbering of this row) and tie the frame through it."),
+        click.option("--sites", "sites_path", type=click.Path(dir_okay=False), default=None,
+                     help="A site table of your own (tab-separated: label or column, role[, kind, chains, note])."),
+        click.option("--replace-sites", is_flag=True, help="Use only the sites of --sites, not the built-in ones."),
+        click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame (other families)."),
+    ])
+
+
+def score_options(kw: Mapping[str, Any]) -> ScoreOptions:
+    """The ``ScoreOptions`` of a command's :func:`scoring_options` (and, if it has them, :func:`frame_options`).
+
+    Parameters
+    ----------
+    kw
+        The command's keyword arguments; the frame keys (``reference``, ``no_frame``, ``sites_path``,
+        ``replace_sites``) are optional.
+
+    Returns
+    -------
+    ScoreOptions
+        What :func:`globcons.analysis.columns.score_columns` takes.
+    """
+    from globcons.analysis.options import ScoreOptions
+    from globcons.core.classes import ClassRules
+
+    rules = ClassRules(max_gaps=kw["max_gaps"], invariant_min=kw["invariant_min"], group_min=kw["group_min"],
+                       matrix=kw["matrix"], residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
+    return ScoreOptions(weights=kw["weights"], identity=kw["identity"], window=kw["window"], rules=rules,
+                        reference=kw.get("reference"), frame=not kw.get("no_frame", False),
+                        sites_path=kw.get("sites_path"), replace_sites=kw.get("replace_sites", False))
+
+
+def shuffles_option(command: F) -> F:
+    """--shuffles: shuffled copies per sequence for the placement E-value (align and scan)."""
+    return click.option("--shuffles", type=click.IntRange(0, 1000), default=DEFAULT_SHUFFLES, show_default=True,
+                        help="Shuffled copies per sequence for the E-value (0: skip it).")(command)
+
+
+def target_options(command: F) -> F:
+    """--family, --target, --numbering, -o and --table of the commands that judge one target (check, plan)."""
+    return _apply(command, [
+        click.option("--family", "family_path", type=click.Path(dir_okay=True), default=None,
+                     help="Judge against this alignment's columns (default: the built-in frame)."),
+        click.option("--target", "target_id", default=None,
+                     help="The target's id: a record of TARGET, or a row of --family when TARGET is omitted."),
+        click.option("--numbering", type=click.Choice(("given", "mature")), default="given", show_default=True,
+                     help="given: count the target as given; mature: traditional numbering without the "
+                          "initiator Met (p. names always count from the Met)."),
+        click.option("-o", "--output", default=None, help="Output table (default: standard output)."),
+        click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
+                     help="Table format (default: from the extension, else tsv)."),
+    ])
+
+
+def grouping_options(command: F) -> F:
+    """--groups, --group-by, --min-group-neff, --permutations, --seed, --conserved-min (contrast and report)."""
+    return _apply(command, [
+        click.option("--groups", "groups_file", type=click.Path(dir_okay=False), default=None,
+                     help="Tab-separated table: id, group (a header line is optional)."),
+        click.option("--group-by", default=None, metavar="REGEX|nearest",
+                     help="Group by the text a regular expression with one capture group finds in each id, or "
+                          "'nearest': myoglobin-like, alpha-like, beta-like or other, from placement."),
+        click.option("--min-group-neff", type=float, default=3.0, show_default=True,
+                     help="Leave out groups whose effective size (summed weight) is smaller."),
+        click.option("--permutations", type=click.IntRange(0, 100000), default=0, show_default=True,
+                     help="Add a permutation p-value from K shuffles of the group labels (0: off)."),
+        click.option("--seed", type=int, default=0, show_default=True, help="Seed of the permutations."),
+        click.option("--conserved-min", type=float, default=0.8, show_default=True,
+                     help="Share of a group's residue weight its consensus needs for the group to be conserved."),
+    ])

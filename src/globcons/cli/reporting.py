@@ -1,0 +1,84 @@
+"""What the commands say on stderr: the :class:`Reporter` and the :func:`common` decorator.
+
+Light to import (click only), like every module the command group loads before a command runs.
+"""
+
+from __future__ import annotations
+
+import functools
+import warnings
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Any
+
+import click
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+__all__ = ["PROG", "Reporter", "common", "warn_low_data"]
+
+PROG = "globcons"
+
+
+class Reporter:
+    """Messages to stderr, honouring --quiet; each distinct warning is shown once.
+
+    Parameters
+    ----------
+    quiet
+        Drop the informational messages (:meth:`info`); warnings are always shown.
+    """
+
+    def __init__(self, quiet: bool = False) -> None:
+        self.quiet = quiet
+        self._seen: set[str] = set()
+
+    def info(self, text: str) -> None:
+        """Write ``globcons: TEXT`` to stderr unless quiet."""
+        if not self.quiet:
+            click.echo(f"{PROG}: {text}", err=True)
+
+    def warn(self, text: str) -> None:
+        """Write ``globcons: warning: TEXT`` to stderr, the first time this text is given."""
+        if text not in self._seen:
+            self._seen.add(text)
+            click.echo(f"{PROG}: warning: {text}", err=True)
+
+
+def common(command: Callable[..., Any]) -> Callable[..., Any]:
+    """Add --quiet and --debug to a command and hand it a :class:`Reporter` as ``reporter``.
+
+    Warnings the library raises while the command runs are shown as one line each (once per text).
+    ``--debug`` itself is read by :func:`globcons.cli.main`, which decides whether to show tracebacks.
+    """
+
+    @click.option("--quiet", "-q", is_flag=True, help="No summary or progress on stderr (warnings still shown).")
+    @click.option("--debug", is_flag=True, help="Show the full traceback of an error.")
+    @functools.wraps(command)
+    def wrapper(*args: Any, quiet: bool, debug: bool, **kwargs: Any) -> Any:
+        reporter = Reporter(quiet)
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            try:
+                return command(*args, reporter=reporter, **kwargs)
+            finally:
+                for item in caught:
+                    reporter.warn(str(item.message))
+
+    return wrapper
+
+
+def warn_low_data(table: pd.DataFrame, reporter: Reporter) -> None:
+    """Warn when columns of a column table rest on few effective sequences (``low_data`` flag).
+
+    Parameters
+    ----------
+    table
+        A column table (:func:`globcons.analysis.columns.score_columns`) with its ``attrs``.
+    reporter
+        Where the warning goes.
+    """
+    low = table.attrs["low_data_columns"]
+    if low:
+        reporter.warn(f"{low} of {table.attrs['columns']} columns have fewer than {table.attrs['rules']['min_neff']:g} "
+                      "effective sequences (flagged low_data): their classes rest on little evidence")
