@@ -10,9 +10,9 @@ import pytest
 from Bio.Align import PairwiseAligner, substitution_matrices
 
 from globcons import score_columns
+from globcons.align.frame_columns import reference_alignment
 from globcons.align.layout import align_to_frame
 from globcons.align.placement import place, place_many
-from globcons.align.reference import reference_alignment
 from globcons.frame.reference import reference_chain, reference_chains
 from globcons.io.frame_labels import decode_labels, encode_labels
 

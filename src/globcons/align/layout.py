@@ -8,8 +8,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from globcons.align.frame_columns import reference_alignment
 from globcons.align.placement import PlacedSequence, place_many
-from globcons.align.reference import reference_alignment
 from globcons.align.scoring_profile import Profile
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alignment import Alignment

@@ -26,7 +26,7 @@ from types import MappingProxyType
 import numpy as np
 
 from globcons.align.dp import align
-from globcons.align.reference import ReferenceAlignment, reference_alignment
+from globcons.align.frame_columns import ReferenceAlignment, reference_alignment
 from globcons.align.scoring_profile import Profile, frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES, GLOBIN_EVALUE, evalues
 from globcons.core.alphabet import N_RESIDUES, decode

@@ -19,7 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from globcons.align.dp import GapCosts
-from globcons.align.reference import reference_alignment
+from globcons.align.frame_columns import reference_alignment
 from globcons.core.alphabet import GAP, UNKNOWN, encode
 from globcons.core.counts import column_counts
 from globcons.core.matrices import DEFAULT_MATRIX, substitution_table

@@ -18,7 +18,7 @@ from collections.abc import Sequence
 import numpy as np
 
 from globcons.align.dp import align_scores
-from globcons.align.reference import reference_alignment
+from globcons.align.frame_columns import reference_alignment
 from globcons.align.scoring_profile import Profile, query_codes
 
 __all__ = ["GLOBIN_EVALUE", "DEFAULT_SHUFFLES", "CALIBRATION_SHUFFLES", "EULER_GAMMA", "shuffled", "gumbel_scale",

@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from globcons.align.reference import reference_alignment
+from globcons.align.frame_columns import reference_alignment
 from globcons.align.scoring_profile import Profile, profile_from_counts
 from globcons.core.alignment import Alignment
 from globcons.core.classes import ClassRules, column_statistics

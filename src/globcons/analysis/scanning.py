@@ -33,8 +33,8 @@ import numpy as np
 import pandas as pd
 
 from globcons.align.dp import align
+from globcons.align.frame_columns import reference_alignment
 from globcons.align.placement import PlacedSequence, place_many
-from globcons.align.reference import reference_alignment
 from globcons.align.scoring_profile import frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.analysis.family import Family, frame_family
