@@ -132,3 +132,27 @@ def test_a2m_sidecar_fits_both_reading_modes(tmp_path, capsys):
         assert len(lines) == width
         f8 = [line.split("\t")[0] for line in lines if line.split("\t")[1] == "F8"]
         assert f8 == [str(f8_column)]
+
+
+def test_labels_are_read_with_the_file_never_looked_up_while_scoring(tmp_path):
+    """A sidecar beside the FASTA is the reader's business: scoring the same codes gives the same table
+    whatever lies on disk, and the labels come only through ``Alignment.frame_labels``."""
+    alignment = synthetic_family_with_anchor()
+    path = tmp_path / "family.fasta"
+    path.write_text("".join(f">{i}\n{alignment.row(k)}\n" for k, i in enumerate(alignment.ids)))
+    planted = [f"A{k + 1}" if k < 16 else "" for k in range(alignment.n_columns)]  # labels no anchor would give
+    (tmp_path / "family.fasta.frame.tsv").write_text(
+        "column\tframe_label\n" + "".join(f"{k + 1}\t{label}\n" for k, label in enumerate(planted)))
+
+    read = read_alignment(path)
+    assert read.frame_labels == tuple(planted) and read.frame_labels_from == str(path) + ".frame.tsv"
+    from_file = score_columns(read)
+    assert list(from_file["frame_label"]) == planted and from_file.attrs["frame"]["source"] == "sidecar"
+
+    # The same codes with the file's path as their source, but without labels: the anchor decides.
+    bare = Alignment(ids=read.ids, codes=read.codes, source=str(path))
+    in_memory = score_columns(bare)
+    assert in_memory.attrs["frame"]["source"] == "anchor"
+    assert list(in_memory["frame_label"]) == list(map_columns(alignment).labels)
+    (tmp_path / "family.fasta.frame.tsv").unlink()
+    assert list(score_columns(bare)["frame_label"]) == list(in_memory["frame_label"])

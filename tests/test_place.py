@@ -133,3 +133,11 @@ def test_labels_round_trip_through_annotation_lines():
     assert all(len(text) == len(labels) + 1 for text in encoded.values())
     assert decode_labels(encoded) == list(labels) + [""]
     assert decode_labels({}) is None
+
+
+def test_places_of_100_and_more_get_a_hundreds_line_only_when_needed():
+    encoded = encode_labels(["F8", "NA1", "H26"])
+    assert set(encoded) == {"frame_segment", "frame_tens", "frame_units"}  # no globin segment reaches 100
+    long = encode_labels(["H109", "", "B7", "GH120"])
+    assert long == {"frame_segment": "H.Bg", "frame_hundreds": "1..1", "frame_tens": "0..2", "frame_units": "9.70"}
+    assert decode_labels(long) == ["H109", "", "B7", "GH120"]
