@@ -2,20 +2,25 @@
 few cases, through a real subprocess.
 
 The hand-made alignment ALN (4 rows, 7 columns) and what each column must be, with ``--weights none``
-(every row weighs 1) and the default thresholds, worked out by hand:
+(every row weighs 1) and rules loose enough for four sequences (HAND: a share of 0.6 for invariant, 0.8
+for a group, reached with posterior probability 0.5 under a negligible prior, so the posterior share of
+k rows out of n is Beta(k, n - k)), worked out by hand:
 
     s1  H A D - K W L
     s2  H S E - R - L
     s3  H A D G K - -
     s4  H S E - Y - -
 
-    col 1  H H H H   one residue                                   -> invariant,    consensus H
-    col 2  A S A S   BLOSUM62 A/S = +1 > 0                          -> conservative, consensus A (tie A=S, alphabetical)
-    col 3  D E D E   BLOSUM62 D/E = +2 > 0                          -> conservative, consensus D (tie)
+    col 1  H H H H   H 4 of 4: P(share >= 0.6) = 1 - 0.6^4 = 0.87   -> invariant,    consensus H
+    col 2  A S A S   A 2 of 4: P(>= 0.6) = 0.35; A/S = +1, group 4 of 4: P(>= 0.8) = 1 - 0.8^4 = 0.59
+                                                                    -> conservative, consensus A (tie A=S, alphabetical)
+    col 3  D E D E   as col 2 (BLOSUM62 D/E = +2)                   -> conservative, consensus D (tie)
     col 4  - - G -   gap fraction 3/4 > 0.5                         -> gap-rich,     consensus G
-    col 5  K R K Y   BLOSUM62 K/Y = -2                              -> variable,     consensus K (2 of 4)
+    col 5  K R K Y   K/R = +2, K/Y = -2: group K, R 3 of 4: P(>= 0.8) = 1 - 0.8^3 = 0.49
+                                                                    -> variable,     consensus K (2 of 4)
     col 6  W - - -   gap fraction 3/4                               -> gap-rich,     consensus W
-    col 7  L L - -   gap fraction 2/4 = 0.5, not above 0.5; only L  -> invariant,    consensus L
+    col 7  L L - -   gap fraction 2/4 = 0.5, not above 0.5; L 2 of 2: P(>= 0.6) = 1 - 0.6^2 = 0.64
+                                                                    -> invariant,    consensus L
 
 Class counts: 2 invariant, 2 conservative, 1 variable, 2 gap-rich.
 Entropies (bits): col 2 and 3 -(2 * 0.5 log2 0.5) = 1; col 5 frequencies 1/2, 1/4, 1/4 -> 0.5 + 0.5 + 0.5 = 1.5.
@@ -43,7 +48,8 @@ EXPECTED_CONSENSUS = ["H", "A", "D", "G", "K", "W", "L"]
 EXPECTED_RESIDUES = ["H:1.00", "A:0.50,S:0.50", "D:0.50,E:0.50", "G:1.00", "K:0.50,R:0.25,Y:0.25", "W:1.00",
                      "L:1.00"]
 EXPECTED_GAPS = [0.0, 0.0, 0.0, 0.75, 0.0, 0.75, 0.5]
-HAND = ["--weights", "none", "--min-neff", "0"]
+HAND = ["--weights", "none", "--min-neff", "0", "--invariant-min", "0.6", "--confidence", "0.5",
+        "--prior-weight", "0.0001"]
 
 
 @pytest.fixture
@@ -86,12 +92,17 @@ def test_columns_tsv_to_stdout(capsys, aln):
     assert all(r["low_data"] == "no" for r in rows)  # --min-neff 0
 
 
-def test_default_weights_keep_the_weight_independent_classes(capsys, aln):
-    # With thresholds of 1, columns 1, 2, 3 and 5 (no gaps) depend only on which residues occur.
-    status, out, _ = run(capsys, "columns", aln, "--min-neff", "0")
+def test_default_rules_do_not_trust_four_sequences_and_say_so(capsys, aln):
+    # Four sequences are four effective ones: with the defaults (share 0.8 with probability 0.9) none of
+    # the columns is confidently invariant or conservative (col 1, H 4 of 4: P = 1 - 0.8^4 = 0.59), every
+    # column is low_data, and the summary warns that the family is thin.
+    status, out, err = run(capsys, "columns", aln)
     assert status == 0
-    classes = [r["class"] for r in tsv_rows(out)]
-    assert [classes[i] for i in (0, 1, 2, 4)] == ["invariant", "conservative", "conservative", "variable"]
+    rows = tsv_rows(out)
+    assert {r["class"] for r in rows} == {"variable", "gap-rich"}
+    assert all(r["low_data"] == "yes" for r in rows)
+    assert float(rows[0]["support"]) == pytest.approx(0.8 ** 4, abs=0.02)  # variable: 1 - P(invariant share)
+    assert "4.0 effective" in err and "thin" in err
 
 
 def test_columns_csv(capsys, aln):
@@ -274,11 +285,15 @@ def test_quiet_silences_the_summary(capsys, aln):
 
 
 def test_low_data_warning_once_even_when_quiet(capsys, aln):
-    # 4 rows: every column has n_eff <= 4 < 5 (default --min-neff): one warning line, kept under --quiet
+    # 4 rows: 4 effective sequences < 5 (default --min-neff): one warning line that the family is thin,
+    # kept under --quiet; with --min-neff 3 the family is not thin but columns 6 and 7 (1 and 2 residues) are.
     status, _, err = run(capsys, "columns", aln, "--weights", "none", "--quiet")
     assert status == 0
     lines = err.splitlines()
-    assert len(lines) == 1 and "warning" in lines[0] and "low_data" in lines[0]
+    assert len(lines) == 1 and "warning" in lines[0] and "4.0 effective sequences" in lines[0] and "thin" in lines[0]
+    status, _, err = run(capsys, "columns", aln, "--weights", "none", "--quiet", "--min-neff", "3")
+    lines = err.splitlines()
+    assert len(lines) == 1 and "3 of 7 columns" in lines[0] and "low_data" in lines[0]
 
 
 # --------------------------------------------------------------------------------------------------

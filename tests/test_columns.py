@@ -73,12 +73,17 @@ def test_reference_numbering_skips_gaps():
 
 
 def test_metadata_records_every_threshold():
-    table = score_columns(alignment_of("HA", "HC"), max_gaps=0.3, group_min=0.9, weights="none")
+    table = score_columns(alignment_of("HA", "HC"), max_gaps=0.3, group_min=0.9, confidence=0.8, weights="none")
     meta = table.attrs
     assert meta["rules"]["max_gaps"] == 0.3 and meta["rules"]["group_min"] == 0.9
-    assert meta["weights"] == "none" and meta["effective_sequences"] == 2.0
-    assert meta["class_counts"] == {"invariant": 1, "conservative": 0, "variable": 1, "gap-rich": 0}
-    assert summarise(table).startswith("2 sequences (2.0 effective, none weights), 2 columns: 1 invariant")
+    assert meta["rules"]["confidence"] == 0.8 and meta["rules"]["prior_weight"] == 1.0
+    assert meta["weights"] == "none" and meta["effective_sequences"] == 2.0 and meta["identity"] == 0.8
+    assert meta["effective_sequences_method"] == "sequences clustered at 80% identity (all pairs compared)"
+    assert meta["thin_family"] is True  # 2 effective sequences < min_neff 5
+    # two sequences prove nothing: H 2 of 2 has P(share >= 0.8) = 1 - 0.8^2 = 0.36 under the near-flat prior
+    assert meta["class_counts"] == {"invariant": 0, "conservative": 0, "variable": 2, "gap-rich": 0}
+    assert summarise(table).startswith("2 sequences (2.0 effective at 80% identity; none weights for the "
+                                       "frequencies), 2 columns: 0 invariant")
 
 
 def test_weighting_changes_what_the_column_says():
@@ -113,3 +118,26 @@ def test_demo_family_shows_every_class_and_keeps_the_fixed_sites():
     # The generator holds the proximal His (sperm whale myoglobin His93, F8) fixed; its column is
     # column 96 of the demo: 93 + the 3 inserted CD-corner columns after mature position 47.
     assert table.loc[95, "class"] == "invariant" and table.loc[95, "consensus"] == "H"
+    assert table.loc[95, "support"] > 0.999 and table.attrs["effective_sequences"] > 40
+
+
+def test_a_gappy_column_scores_below_a_filled_invariant_one_in_every_shown_score():
+    # 100 distinct rows; column 1 His in all, column 2 His in 26 and gaps in 74 (74% gaps): its residues
+    # are as uniform as column 1's, so a gap-blind score would rate both 1.0.
+    from globcons.analysis.columns import SHOWN_SCORES
+    from globcons.plots.conservation import draw_profile
+    from globcons.structure.paint import score_values
+
+    rng = np.random.default_rng(2)
+    letters = np.array(list(STANDARD))
+    rows = ["H" + ("H" if k < 26 else "-") + "".join(rng.choice(letters, 30)) for k in range(100)]
+    table = score_columns(alignment_of(*rows), frame=False, max_gaps=0.8, weights="none")
+    assert table.loc[0, "class"] == "invariant" and table.loc[1, "gap_fraction"] == pytest.approx(0.74)
+    assert table.loc[1, "entropy_bits"] == 0.0  # the residues alone look invariant
+    for score in SHOWN_SCORES:
+        assert table.loc[1, score] < table.loc[0, score], score
+        values = score_values(table, score)  # what paint writes
+        assert values[1] < values[0], score
+        plotted = draw_profile(table, score=score).axes[0].lines[0].get_ydata()
+        assert plotted[1] < plotted[0], score
+    assert table.loc[0, "conservation"] == 1.0 and table.loc[1, "conservation"] == pytest.approx(0.26)

@@ -269,7 +269,7 @@ def hand_table() -> pd.DataFrame:
         "frame_label": ["A1", "A2", "", "AB1", "B1", "B2"],
         "sites": ["", "", "", "", "heme-contact", ""],
         "class": ["invariant", "conservative", "gap-rich", "variable", "invariant", "variable"],
-        "entropy_norm": [0.0, 0.25, 0.9, 0.5, 0.0, 0.75],
+        "conservation": [1.0, 0.75, 0.05, 0.5, 1.0, 0.25],
         "jsd": [0.8, 0.6, 0.1, 0.3, 0.9, 0.2],
     })
 
@@ -277,12 +277,13 @@ def hand_table() -> pd.DataFrame:
 def test_profile_plots_conservation_along_the_labelled_columns(tmp_path):
     fig = draw_profile(hand_table(), tmp_path / "p.png")
     sites_ax, helix_ax, ax = fig.axes[1], fig.axes[2], fig.axes[0]
-    # column 3 has no label and is left out; 1 - entropy_norm is plotted
+    # column 3 has no label and is left out; the conservation column is plotted as it is
     assert list(ax.lines[0].get_ydata()) == [1.0, 0.75, 0.5, 1.0, 0.25]
     assert [t.get_text() for t in helix_ax.texts] == ["A", "B"]
     assert [t.get_text() for t in sites_ax.texts] == ["B1 heme-contact"]
     assert [t.get_text() for t in ax.get_xticklabels()] == ["A1", "A2", "AB1", "B1", "B2"]
-    assert "conservation" in ax.get_ylabel()
+    assert ax.get_ylabel() == "conservation:\n(1 - entropy / log2 20) x (1 - gap fraction)"
+    assert fig.axes[1].get_title(loc="left") == "conservation"  # the title names the score plotted
     legend = [t.get_text() for t in ax.get_legend().get_texts()]
     assert legend == ["invariant (2)", "conservative (1)", "variable (2)", "functional site"]
     assert png_shape(tmp_path / "p.png") == expected_pixels(fig)
@@ -364,12 +365,15 @@ def test_heatmap_thins_query_labels_beyond_200():
     assert labels[:2] == ["q000", "q002"] and len(labels) == 125
 
 
-def test_heatmap_of_a_real_scan(tmp_path):
+def test_heatmap_of_a_real_scan(tmp_path, demo):
+    from globcons.analysis.family import family_from_alignment
     from globcons.analysis.scanning import scan
     from globcons.frame.reference import reference_chain
 
-    beta = reference_chain("human_hemoglobin_beta").full_sequence
-    _, residues = scan([("beta", beta), ("beta_H92Y", beta[:92] + "Y" + beta[93:])], shuffles=0)
+    alignment, table = demo  # 45 effective synthetic myoglobins, F8 His held fixed
+    family = family_from_alignment(alignment, labels=tuple(table["frame_label"]))
+    mb = reference_chain("sperm_whale_myoglobin").full_sequence
+    _, residues = scan([("mb", mb), ("mb_H93Y", mb[:93] + "Y" + mb[94:])], family=family, shuffles=0)
     data = departure_matrix(residues)
     f8 = data.positions.index("F8")
     assert data.levels[0, f8] == DEVIATION_ORDER.index("none")

@@ -15,7 +15,7 @@ from globcons.errors import OptionError
 from globcons.frame.reference import reference_chain
 from globcons.mutations.judge import check, rank_sites
 from globcons.mutations.target import prepare_target
-from helpers import planted_family
+from helpers import alignment_of, planted_family
 
 BETA = reference_chain("human_hemoglobin_beta")
 ALPHA = reference_chain("human_hemoglobin_alpha")
@@ -36,7 +36,10 @@ def test_beta_sickle_position_is_a3_and_not_locked(mature_beta):
 def test_beta_proximal_his_is_locked_with_the_heme_ligand_reason(mature_beta):
     row = check(mature_beta, ["H92Y"]).iloc[0]
     assert row["frame_label"] == "F8" and row["verdict"] == "locked"
-    assert "heme iron's protein ligand" in row["reasons"] and row["column_class"] == "invariant"
+    assert "heme iron's protein ligand" in row["reasons"]
+    # the built-in family is three chains: His in all three is no confident invariant, and the reasons say why
+    assert row["column_class"] == "variable"
+    assert "low_data: the family has only 3.0 effective sequences" in row["reasons"]
 
 
 def test_alpha_f8_and_myoglobin_distal_his():
@@ -118,7 +121,10 @@ def test_cli_prints_the_caution_even_when_quiet(tmp_path, capsys):
     fasta.write_text(f">beta\n{BETA.full_sequence}\n")
     assert main(["check", str(fasta), "--mutations", "E7V,H93Y", "--quiet"]) == 0
     captured = capsys.readouterr()
-    assert captured.err.strip().startswith("Caution:") and CAUTION in captured.err
+    # the thin built-in family is named in a warning (kept under --quiet), then the caution
+    warning, caution = captured.err.strip().split("\n")
+    assert warning.startswith("globcons: warning: family built-in reference chains: 3.0 effective sequences")
+    assert caution.startswith("Caution:") and CAUTION in captured.err
     lines = captured.out.splitlines()
     assert lines[0].split("\t")[:3] == ["mutation", "position", "mature_position"] and len(lines) == 3
     out = tmp_path / "plan.md"
@@ -136,3 +142,29 @@ def test_cli_mismatch_is_exit_2_naming_the_residue(tmp_path, capsys):
     mutations.write_text("# proposals\nE7V\n\nnot-a-mutation\n")
     assert main(["check", str(fasta), "--mutations-file", str(mutations)]) == 2
     assert "m.txt:4" in capsys.readouterr().err
+
+
+def test_trp_to_arg_in_an_aromatic_core_column_is_guarded_for_the_hydrophobic_core():
+    # The column of an unstable hemoglobin variant's position (beta A12 Trp15): a family holding W 0.82,
+    # F 0.13, L 0.04 there. Kyte-Doolittle rates Trp -0.9, so a hydropathy rule would miss the core; the
+    # Fauchère-Pliška scale (W +2.25, F +1.79, L +1.70; R -1.01) calls the column a hydrophobic core.
+    rng = np.random.default_rng(4)
+    beta = BETA.mature_sequence
+    site = 14  # beta Trp15, 0-based
+    column = np.array(["W"] * 82 + ["F"] * 13 + ["L"] * 4 + ["W"])
+    rows = []
+    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
+    for k in range(100):
+        row = np.array(list(beta))
+        change = rng.random(row.size) < 0.35  # distinct rows: each its own cluster
+        row[change] = rng.choice(letters, int(change.sum()))
+        row[site] = column[k]
+        rows.append("".join(row))
+    family = family_from_alignment(alignment_of(*rows))
+    assert family.n_eff > 90 and not family.thin
+    row = check(("beta", beta), ["W15R"], family=family).iloc[0]
+    assert row["verdict"] in ("guarded", "locked")
+    assert "hydrophobic core column" in row["reasons"] and "Fauchère & Pliška" in row["reasons"]
+    assert "R is polar (-1.01)" in row["reasons"]
+    # A hydrophobic replacement of the same Trp keeps the core: no core reason.
+    assert "hydrophobic core" not in check(("beta", beta), ["W15F"], family=family).iloc[0]["reasons"]

@@ -131,11 +131,22 @@ def test_property_change_rejects_non_standard(bad):
         rp.property_change("E", bad)
 
 
-def test_hydrophobic_is_positive_kyte_doolittle():
-    assert {c for c in STANDARD if rp.is_hydrophobic(c)} == set("IVLFCMA")
-    assert not rp.is_hydrophobic("G")  # -0.4
-    assert not rp.is_hydrophobic("W")  # -0.9
-    assert rp.is_hydrophobic("a")
+def test_core_hydrophobicity_is_fauchere_pliska_and_counts_aromatic_and_sulfur_residues():
+    # Fauchère & Pliška 1983 Eur J Med Chem 18:369, octanol/water pi of the side chains (values as published,
+    # from memory, and as Biopython ships them): W 2.25, I 1.80, F 1.79, L 1.70, C 1.54, M 1.23, V 1.22,
+    # Y 0.96; R -1.01, K -0.99, D -0.77.
+    published = {"W": 2.25, "I": 1.80, "F": 1.79, "L": 1.70, "C": 1.54, "M": 1.23, "V": 1.22, "Y": 0.96,
+                 "R": -1.01, "K": -0.99, "D": -0.77}
+    for letter, value in published.items():
+        assert rp.CORE_HYDROPHOBICITY[letter] == pytest.approx(value)
+    assert {c for c in STANDARD if rp.is_hydrophobic(c)} == set("WIFLCMV")
+    assert rp.is_hydrophobic("w")  # Kyte-Doolittle rates Trp -0.9: it is the core scale that decides
+    assert {c for c in STANDARD if rp.is_polar(c)} == set("SQNEDKR")
+    # The column of an unstable hemoglobin variant's position (beta A12): W 0.82, F 0.13, L 0.04.
+    column = np.zeros(20)
+    column[[STANDARD.index("W"), STANDARD.index("F"), STANDARD.index("L")]] = 0.82, 0.13, 0.04
+    assert rp.core_hydrophobicity(column) == pytest.approx((0.82 * 2.25 + 0.13 * 1.79 + 0.04 * 1.70) / 0.99)
+    assert rp.core_hydrophobicity(column) >= rp.HYDROPHOBIC_CORE_MIN
 
 
 def test_charged_residues():

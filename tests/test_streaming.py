@@ -24,6 +24,7 @@ from globcons.errors import InputError, OptionError
 from globcons.io.alignments import parse_alignment
 from globcons.io.chunks import record_chunks
 from globcons.io.fasta import parse_fasta_rows
+from globcons.io.tables import format_table
 
 _LETTERS = "ACDEFGHIKLMNPQRSTVWY"
 _HAND_CODES = {letter: code for code, letter in enumerate(_LETTERS)}
@@ -232,10 +233,20 @@ def test_a_short_row_in_a_later_chunk_names_its_header_line(tmp_path):
     assert "row 'r55' has 3 columns" in str(streamed.value)
 
 
-def test_cluster_weights_keep_inserts_and_stockholm_refuse_to_stream(tmp_path):
+def test_cluster_weights_stream_and_give_the_in_memory_table(tmp_path):
+    # Cluster weights need every pair of rows: the first pass keeps the rows' codes (up to the exact
+    # limit) or a fixed sample (above it), so both ways of reading agree in both regimes.
     path = _family(tmp_path, n_rows=50)
-    with pytest.raises(OptionError, match="cluster weights.*henikoff"):
-        stream_columns(path, ScoreOptions(weights="cluster"), chunk_rows=10)
+    for options in (ScoreOptions(weights="cluster", frame=False),
+                    ScoreOptions(weights="cluster", frame=False, neff_exact_rows=20)):
+        streamed = stream_columns(path, options, chunk_rows=7)
+        in_memory = score_columns(read_alignment(path), options)
+        assert format_table(streamed, "tsv") == format_table(in_memory, "tsv")
+    assert "sampled rows" in streamed.attrs["effective_sequences_method"]
+
+
+def test_keep_inserts_and_stockholm_refuse_to_stream(tmp_path):
+    path = _family(tmp_path, n_rows=50)
     with pytest.raises(OptionError, match="keep-inserts"):
         streaming.summarise_file(path, ScoreOptions(), chunk_rows=10, keep_inserts=True)
     sto = tmp_path / "x.sto"
@@ -252,7 +263,7 @@ def test_too_large_for_memory_streams_automatically_or_stops_clearly(tmp_path, m
     plan = plan_reading(str(path))
     assert plan.stream and plan.chunk_rows is None and "GB available" in plan.note
     with pytest.raises(OptionError, match=r"GB needed in memory.*use --chunk-rows"):
-        plan_reading(str(path), weights="cluster")
+        plan_reading(str(path), keep_inserts=True)
     out = tmp_path / "auto.tsv"
     assert main(["columns", str(path), "-o", str(out), "--no-frame"]) == 0
     assert "reading it in two passes" in capsys.readouterr().err

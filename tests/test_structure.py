@@ -117,7 +117,7 @@ def residue_bfactors(structure, chain="A") -> dict[int, list[float]]:
             for residue in structure[0][chain] if residue.id[0] == " "}
 
 
-def expected_scores(demo, score="entropy_norm") -> dict[int, float]:
+def expected_scores(demo, score="conservation") -> dict[int, float]:
     alignment, table = demo
     columns = map_chain_to_alignment(SEQUENCE, alignment, table)
     values = score_values(table, score)
@@ -169,7 +169,7 @@ def test_pdb_round_trip_b_factors_are_the_scores_of_the_mapped_columns(demo, pdb
     out = tmp_path / "painted.pdb"
     result = paint_structure(pdb_path, alignment, table, out)
     assert (result.chain, result.residues, result.mapped, result.unmapped) == ("A", 20, 16, 4)
-    assert result.score == "entropy_norm" and result.sentinel == SENTINEL == -1.0
+    assert result.score == "conservation" and result.sentinel == SENTINEL == -1.0
     assert result.output_format == "pdb"
     expected = expected_scores(demo)
     painted = read_back(out)
@@ -179,7 +179,8 @@ def test_pdb_round_trip_b_factors_are_the_scores_of_the_mapped_columns(demo, pdb
         assert len(set(values)) == 1, f"residue {number}: atoms differ {values}"
         assert values[0] == pytest.approx(round(expected[number], 2), abs=0.0051)
     assert len(got[ALTLOC_RESIDUE]) == 3  # CA A, CA B and C: all painted
-    assert got[HIS_F8][0] == pytest.approx(round(float(table["entropy_norm"].iloc[F8_COLUMN - 1]), 2), abs=1e-9)
+    assert got[HIS_F8][0] == pytest.approx(round(float(table["conservation"].iloc[F8_COLUMN - 1]), 2), abs=1e-9)
+    assert got[HIS_F8][0] == 1.0  # the proximal His column: one residue, no gaps
     for number in range(FIRST, FIRST + len(LEADING)):
         assert got[number] == [SENTINEL, SENTINEL]
     # Ligand, waters and the water chain carry the sentinel, not their old B-factor.
@@ -192,13 +193,13 @@ def test_pdb_round_trip_b_factors_are_the_scores_of_the_mapped_columns(demo, pdb
 def test_mmcif_round_trip_is_exact_and_keeps_the_metadata(demo, cif_path, tmp_path):
     alignment, table = demo
     out = tmp_path / "painted.cif"
-    result = paint_structure(cif_path, alignment, table, out, score="conservation")
+    result = paint_structure(cif_path, alignment, table, out, score="property_conservation")
     assert result.output_format == "mmcif" and result.mapped == 16
-    expected = expected_scores(demo, "conservation")
+    expected = expected_scores(demo, "property_conservation")
     got = residue_bfactors(read_back(out))
     for number, values in got.items():
         assert values == [expected[number]] * len(values)  # exact, all atoms and altlocs
-    assert got[HIS_F8][0] == 1.0 - float(table["entropy_norm"].iloc[F8_COLUMN - 1])
+    assert got[HIS_F8][0] == float(table["property_conservation"].iloc[F8_COLUMN - 1])
     data = MMCIF2Dict(str(out))
     assert data["_struct.title"] == ["a small test structure"]
     assert data["_atom_site.auth_asym_id"].count("B") == 2
@@ -218,12 +219,12 @@ def test_pdb_to_mmcif_and_mmcif_to_pdb(demo, pdb_path, cif_path, tmp_path):
 def test_a_column_without_a_score_gets_the_sentinel(demo, pdb_path, tmp_path):
     alignment, table = demo
     holed = table.copy()
-    holed.loc[F8_COLUMN - 1, "entropy_norm"] = math.nan
+    holed.loc[F8_COLUMN - 1, "conservation"] = math.nan
     result = paint_structure(pdb_path, alignment, holed, tmp_path / "p.pdb")
     assert result.mapped == 16 and result.painted == 15
     got = residue_bfactors(read_back(tmp_path / "p.pdb"))
     assert got[HIS_F8] == [SENTINEL, SENTINEL]
-    assert got[HIS_F8 + 1][0] == pytest.approx(float(table["entropy_norm"].iloc[F8_COLUMN]), abs=0.0051)
+    assert got[HIS_F8 + 1][0] == pytest.approx(float(table["conservation"].iloc[F8_COLUMN]), abs=0.0051)
 
 
 def test_every_model_is_painted(demo, tmp_path):
@@ -247,7 +248,7 @@ def test_a_chosen_sentinel_and_the_describe_line(demo, pdb_path, tmp_path):
     line = result.describe()
     assert "\n" not in line
     assert line.startswith("chain A: 16 of 20 residues mapped to columns ")
-    assert "entropy_norm" in line and "-5.50" in line
+    assert "conservation" in line and "-5.50" in line
 
 
 # --- errors -----------------------------------------------------------------------------------------
@@ -313,10 +314,10 @@ def run(capsys, *args) -> tuple[int, str, str]:
 def test_cli_round_trip(demo, pdb_path, tmp_path, capsys):
     out = tmp_path / "cli.cif"
     status, _, err = run(capsys, "paint", pdb_path, "--alignment", demo_alignment_path(), "--chain", "A",
-                         "--score", "gap_fraction", "-o", out)
+                         "--score", "jsd", "-o", out)
     assert status == 0, err
     assert "16 of 20 residues mapped" in err and f"wrote {out}" in err
-    expected = expected_scores(demo, "gap_fraction")
+    expected = expected_scores(demo, "jsd")
     for number, values in residue_bfactors(read_back(out)).items():
         assert values == [expected[number]] * len(values)
 
@@ -345,7 +346,7 @@ def test_cli_refuses_to_overwrite_the_structure(pdb_path, capsys):
 def test_cli_unknown_score_is_a_usage_error(pdb_path, tmp_path, capsys):
     status, _, err = run(capsys, "paint", pdb_path, "--alignment", demo_alignment_path(), "--score", "nope",
                          "-o", tmp_path / "x.pdb")
-    assert status == 2 and "entropy_norm" in err
+    assert status == 2 and "conservation" in err and "property_conservation" in err
 
 
 def test_a_chain_of_another_family_is_painted_with_a_warning(demo, tmp_path):

@@ -3,7 +3,16 @@
 import numpy as np
 import pytest
 
-from globcons.core.weights import cluster_weights, compute_weights, distinct_rows, henikoff_weights
+from globcons import score_columns
+from globcons.core.weights import (
+    cluster_weights,
+    compute_weights,
+    distinct_rows,
+    exact_neighbours,
+    henikoff_weights,
+    neighbour_counts,
+    sample_rows,
+)
 from globcons.errors import OptionError
 from helpers import alignment_of
 
@@ -68,16 +77,64 @@ def test_cluster_weights_match_a_plain_pairwise_count():
     codes = np.array([np.where(rng.random(40) < 0.15, rng.integers(0, 24, 40), base) for _ in range(60)],
                      dtype=np.uint8)
     identity = (codes[:, None, :] == codes[None, :, :]).mean(axis=2)
-    expected = 1.0 / (identity >= 0.8).sum(axis=1)
-    np.testing.assert_allclose(cluster_weights(codes, 0.8, chunk_rows=13), expected)
+    expected = (identity >= 0.8).sum(axis=1)
+    np.testing.assert_array_equal(exact_neighbours(codes, 0.8, block_rows=13), expected)
+    np.testing.assert_allclose(cluster_weights(codes, 0.8), 1.0 / expected)
 
 
-def test_cluster_weights_refuse_too_many_rows_and_say_why():
-    codes = np.zeros((11, 5), dtype=np.uint8)
-    with pytest.raises(OptionError, match="henikoff"):
-        cluster_weights(codes, 0.8, max_rows=10)
+def _python_reference_neff(rows: list[str], identity: float = 0.8) -> float:
+    """The effective number written out in plain Python: for each row, count the rows (itself included) at
+    least ``identity`` identical to it over all columns; sum 1 / count (Morcos et al. 2011 PNAS 108:E1293)."""
+    total = 0.0
+    for a in rows:
+        neighbours = sum(1 for b in rows if sum(x == y for x, y in zip(a, b, strict=True)) >= identity * len(a))
+        total += 1.0 / neighbours
+    return total
+
+
+def test_fifty_near_copies_and_five_distinct_sequences_are_about_six_effective_sequences():
+    # 50 copies of one 100-residue chain with one substitution each (99% identical to it, 98% to each
+    # other), and 5 unrelated chains: by hand, the copies form one cluster (50 rows of weight 1/50) and the
+    # others one each: n_eff = 1 + 5 = 6.
+    rng = np.random.default_rng(3)
+    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
+    base = rng.choice(letters, 100)
+    rows = []
+    for k in range(50):
+        row = base.copy()
+        row[k] = letters[(np.flatnonzero(letters == row[k])[0] + 1) % 20]  # a different residue at k
+        rows.append("".join(row))
+    rows += ["".join(rng.choice(letters, 100)) for _ in range(5)]
+    alignment = alignment_of(*rows)
+    neighbours = neighbour_counts(alignment.codes)
+    assert neighbours.method == "exact" and neighbours.n_eff == pytest.approx(6.0)
+    assert neighbours.n_eff == pytest.approx(_python_reference_neff(rows))
+    assert 5 <= score_columns(alignment, frame=False).attrs["effective_sequences"] <= 7
+    # Henikoff weights alone would count 55 distinct rows: the frequencies may use them, n_eff does not.
+    assert compute_weights(alignment.codes, "henikoff").n_eff == pytest.approx(55.0)
+
+
+def test_above_the_exact_limit_the_count_comes_from_a_fixed_sample():
+    rng = np.random.default_rng(5)
+    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
+    clusters = [rng.choice(letters, 60) for _ in range(30)]
+    rows = []
+    for k in range(600):  # 30 clusters of 20 close copies (one substitution each)
+        row = clusters[k % 30].copy()
+        row[rng.integers(60)] = rng.choice(letters)
+        rows.append("".join(row))
+    codes = alignment_of(*rows).codes
+    exact = neighbour_counts(codes)
+    sampled = neighbour_counts(codes, exact_max_rows=100, sample_size=300)
+    assert exact.n_eff == pytest.approx(30.0)
+    assert sampled.method == "sampled" and sampled.sample_rows == 300
+    assert sampled.n_eff == pytest.approx(exact.n_eff, rel=0.15)  # clusters of 20 are seen by a 1-in-2 sample
+    assert "300 sampled rows" in sampled.describe()
+    # The sample is fixed by the row index, so a file read in chunks picks the same rows.
+    np.testing.assert_array_equal(sample_rows(600, 300), sample_rows(600, 300))
+    assert len(set(sample_rows(600, 300).tolist())) == 300
     with pytest.raises(OptionError, match="identity"):
-        cluster_weights(codes, 1.5)
+        neighbour_counts(codes, 1.5)
 
 
 def test_distinct_rows_counts_unique_rows():

@@ -22,7 +22,9 @@ from globcons.core.classes import CLASSES, column_statistics
 from globcons.core.scores import (
     PROPERTY_CLASSES,
     consensus,
+    conservation,
     jsd_scores,
+    property_conservation,
     property_entropy,
     residue_strings,
     smooth_window,
@@ -31,12 +33,23 @@ from globcons.core.scores import (
 from globcons.errors import OptionError
 from globcons.frame.functional_sites import Site, column_sites, sites
 
-__all__ = ["COLUMN_ORDER", "score_columns", "table_from_summary", "read_user_sites", "summarise"]
+__all__ = ["COLUMN_ORDER", "SHOWN_SCORES", "score_columns", "table_from_summary", "read_user_sites", "summarise",
+           "is_thin"]
 
 
 #: Order of the table's columns (``ref_position`` and ``ref_residue`` follow ``column`` with a reference).
-COLUMN_ORDER = ("column", "frame_label", "sites", "class", "low_data", "consensus", "residues", "entropy_bits",
-                "entropy_norm", "property_entropy", "jsd", "gap_fraction", "unknown_fraction", "n_eff")
+COLUMN_ORDER = ("column", "frame_label", "sites", "class", "support", "low_data", "consensus", "residues",
+                "conservation", "property_conservation", "jsd", "entropy_bits", "entropy_norm", "property_entropy",
+                "gap_fraction", "unknown_fraction", "n_eff")
+
+#: The scores figures and structures show (``profile --score``, ``paint --score``), each higher where a
+#: column is more conserved, and each lower for a gappy column than for a filled invariant one.
+SHOWN_SCORES: dict[str, str] = {
+    "conservation": "conservation: (1 - entropy / log2 20) x (1 - gap fraction)",
+    "property_conservation": "property conservation: (1 - property-class entropy / log2 6) x (1 - gap fraction)",
+    "jsd": "Jensen-Shannon divergence from the BLOSUM62 background x (1 - gap fraction), bits",
+    "n_eff": "effective sequences with a residue (clusters at the identity threshold)",
+}
 
 
 def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **kwargs) -> pd.DataFrame:
@@ -119,20 +132,23 @@ def table_from_summary(summary: ColumnSummary, options: ScoreOptions,
     if user_sites is None:
         user_sites = read_user_sites(options)
     counts = summary.counts
-    stats = column_statistics(counts, options.rules)
+    stats = column_statistics(counts, summary.neff_counts, options.rules)
     mapping = _mapping(summary, options)
     table = pd.DataFrame({
         "column": np.arange(1, summary.n_columns + 1),
         "frame_label": list(mapping.labels),
         "sites": column_sites(mapping.labels, mapping.nearest_reference, user_sites, options.replace_sites),
         "class": stats.classes.astype(str),
+        "support": stats.support,
         "low_data": stats.low_data,
         "consensus": consensus(counts).astype(str),
         "residues": residue_strings(stats.frequencies),
+        "conservation": conservation(counts),
+        "property_conservation": property_conservation(counts),
+        "jsd": smooth_window(jsd_scores(counts), options.window),
         "entropy_bits": stats.entropy_bits,
         "entropy_norm": stats.entropy_norm,
         "property_entropy": property_entropy(counts),
-        "jsd": smooth_window(jsd_scores(counts), options.window),
         "gap_fraction": stats.gap_fraction,
         "unknown_fraction": unknown_fraction(counts),
         "n_eff": stats.n_eff,
@@ -157,8 +173,11 @@ def _metadata(summary: ColumnSummary, options: ScoreOptions, classes: np.ndarray
         "sequences": summary.n_rows,
         "columns": summary.n_columns,
         "effective_sequences": round(summary.n_eff, 6),
+        "effective_sequences_method": summary.neighbours.describe(),
+        "thin_family": bool(summary.n_eff < options.rules.min_neff),
         "weights": options.weights,
-        "identity": options.identity if options.weights == "cluster" else None,
+        "identity": options.identity,
+        "neff_exact_rows": options.neff_exact_rows,
         "window": options.window,
         "reference": options.reference,
         "property_classes": PROPERTY_CLASSES,
@@ -175,8 +194,9 @@ def summarise(table: pd.DataFrame) -> str:
     meta = table.attrs
     counts = meta["class_counts"]
     parts = ", ".join(f"{counts[name]} {name}" for name in CLASSES)
-    line = (f"{meta['sequences']} sequences ({meta['effective_sequences']:.1f} effective, {meta['weights']} "
-            f"weights), {meta['columns']} columns: {parts}")
+    line = (f"{meta['sequences']} sequences ({meta['effective_sequences']:.1f} effective at "
+            f"{meta['identity']:.0%} identity; {meta['weights']} weights for the frequencies), {meta['columns']} "
+            f"columns: {parts}")
     frame = meta.get("frame")
     if frame and frame.get("note"):
         line += f"; {frame['note']}"
@@ -184,3 +204,8 @@ def summarise(table: pd.DataFrame) -> str:
         line += f"; {meta['low_data_columns']} low-data columns (n_eff < {meta['rules']['min_neff']:g})"
     return line
 
+
+
+def is_thin(table: pd.DataFrame) -> bool:
+    """Whether the family behind a column table has fewer effective sequences than ``min_neff``."""
+    return bool(table.attrs.get("thin_family"))

@@ -1,12 +1,16 @@
 """A family to judge sequences against: its columns' classes, residues and (for a user's alignment) profile.
 
 The built-in family is the frame's reference chains; a user's alignment gives its own (``--family``).
-Column statistics are those of the column table (:func:`globcons.core.classes.column_statistics`, Henikoff
-weights and the same class rules and defaults as ``globcons columns``).
+Column statistics are those of the column table (:func:`globcons.core.classes.column_statistics`: Henikoff
+weights for the frequencies, cluster weights at 80% identity for the effective numbers, and the same
+class rules and defaults as ``globcons columns``). A family with fewer effective sequences than the
+rules' ``min_neff`` is *thin* (:attr:`Family.thin`): its classes rest on little evidence, and the
+commands that judge against it say so.
 """
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -17,8 +21,10 @@ from globcons.core.alignment import Alignment
 from globcons.core.classes import ClassRules, column_statistics
 from globcons.core.counts import column_counts
 from globcons.core.labels import is_helix, segment_of
+from globcons.core.matrices import DEFAULT_MATRIX
+from globcons.core.properties import core_hydrophobicity
 from globcons.core.scores import residue_strings
-from globcons.core.weights import compute_weights
+from globcons.core.weights import compute_weights, neighbour_counts
 
 __all__ = ["Family", "frame_family", "family_from_alignment"]
 
@@ -38,7 +44,7 @@ class Family:
     consensus
         (M,) residue codes of the top residue per column.
     groups
-        (M, 22) bool: the residues of each column's substitution group (those carrying ``group_min``).
+        (M, 22) bool: the residues of each column's substitution group.
     family_residues
         (M,) strings of the top residues (``"H:0.97,Q:0.03"``, at most three).
     frequencies
@@ -51,6 +57,14 @@ class Family:
         (M,) frame label of each column ('' where none).
     matrix
         The matrix that judges ``leaves-group``.
+    n_eff
+        Effective number of sequences of the whole family (cluster weights).
+    column_n_eff
+        (M,) effective number of sequences holding a residue in each column.
+    low_data
+        (M,) bool: ``column_n_eff`` below ``min_neff``.
+    min_neff
+        The rules' ``min_neff``.
     """
 
     name: str
@@ -63,25 +77,58 @@ class Family:
     gaps: np.ndarray
     entropy_norm: np.ndarray
     labels: tuple[str, ...]
-    matrix: str = "BLOSUM62"
+    matrix: str = DEFAULT_MATRIX
     residue_groups: str | None = None
+    n_eff: float = float("nan")
+    column_n_eff: np.ndarray | None = None
+    low_data: np.ndarray | None = None
+    min_neff: float = ClassRules().min_neff
 
     @property
     def n_columns(self) -> int:
         return self.classes.size
+
+    @functools.cached_property
+    def core_hydrophobicity(self) -> np.ndarray:
+        """(M,) weighted mean Fauchère-Pliška hydrophobicity of each column's residues (NaN without any)."""
+        return core_hydrophobicity(self.frequencies)
+
+    @property
+    def thin(self) -> bool:
+        """Fewer effective sequences than ``min_neff``: every class rests on little evidence."""
+        return bool(self.n_eff < self.min_neff)
+
+    def describe(self) -> str:
+        """One line: what the family is and how much evidence it holds."""
+        line = f"family {self.name}: {self.n_eff:.1f} effective sequences, {self.n_columns} columns"
+        if self.thin:
+            line += (f"; fewer than {self.min_neff:g} effective sequences, so its classes rest on little "
+                     "evidence (give --family with a larger alignment)")
+        return line
 
 
 def _top_three(frequencies: np.ndarray) -> np.ndarray:
     return np.array([",".join(item.split(",")[:3]) for item in residue_strings(frequencies)], dtype=object)
 
 
-def frame_family(rules: ClassRules = ClassRules()) -> Family:
-    """The built-in family: the reference chains on the frame and the classes of their columns."""
-    reference = reference_alignment()
-    stats = column_statistics(column_counts(reference.codes, compute_weights(reference.codes).values), rules)
-    return Family("globin frame", None, stats.classes, stats.frequencies.argmax(axis=1), stats.groups,
+def _family(name: str, codes: np.ndarray, labels: tuple[str, ...], rules: ClassRules, weights: str,
+            profile_of=None) -> Family:
+    neighbours = neighbour_counts(codes)
+    counts = (column_counts(codes, neighbours.weights) if weights == "cluster"
+              else column_counts(codes, compute_weights(codes, weights).values))
+    neff_counts = column_counts(codes, neighbours.weights)
+    stats = column_statistics(counts, neff_counts, rules)
+    profile = profile_of(counts) if profile_of is not None else None
+    return Family(name, profile, stats.classes, stats.frequencies.argmax(axis=1), stats.groups,
                   _top_three(stats.frequencies), stats.frequencies, stats.gap_fraction, stats.entropy_norm,
-                  reference.labels, rules.matrix, rules.residue_groups)
+                  tuple(labels), rules.matrix, rules.residue_groups, neighbours.n_eff, stats.n_eff, stats.low_data,
+                  rules.min_neff)
+
+
+def frame_family(rules: ClassRules = ClassRules()) -> Family:
+    """The built-in family: the reference chains on the frame and the classes of their columns (a thin one)."""
+    reference = reference_alignment()
+    return _family("built-in reference chains", reference.codes, reference.labels, rules, "henikoff")
 
 
 def family_from_alignment(alignment: Alignment, rules: ClassRules = ClassRules(), weights: str = "henikoff",
@@ -91,12 +138,11 @@ def family_from_alignment(alignment: Alignment, rules: ClassRules = ClassRules()
     ``labels`` (frame labels per column, e.g. from :func:`globcons.align.anchor.map_columns`) set the helix
     gap costs of the profile; without them every column takes the loop costs.
     """
-    counts = column_counts(alignment.codes, compute_weights(alignment.codes, weights).values)
-    stats = column_statistics(counts, rules)
     labels = labels or ("",) * alignment.n_columns
     segments = tuple(segment_of(label) if label else "" for label in labels)
     in_helix = np.array([is_helix(s) for s in segments], dtype=bool)
-    profile = profile_from_counts(alignment.source, counts, labels, segments, in_helix, rules.matrix)
-    return Family(alignment.source, profile, stats.classes, stats.frequencies.argmax(axis=1), stats.groups,
-                  _top_three(stats.frequencies), stats.frequencies, stats.gap_fraction, stats.entropy_norm,
-                  tuple(labels), rules.matrix, rules.residue_groups)
+
+    def profile_of(counts: np.ndarray) -> Profile:
+        return profile_from_counts(alignment.source, counts, labels, segments, in_helix, rules.matrix)
+
+    return _family(alignment.source, alignment.codes, labels, rules, weights, profile_of)

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from globcons.core.classes import ClassRules
+from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY
 from globcons.errors import OptionError
 
 __all__ = ["ScoreOptions", "options_from_keywords"]
@@ -19,7 +20,11 @@ class ScoreOptions:
     weights
         ``henikoff``, ``none`` or ``cluster``.
     identity
-        Identity threshold of ``cluster`` weights.
+        Identity threshold of the clusters behind the effective numbers of sequences (and of ``cluster``
+        weights): rows at least this identical count as one.
+    neff_exact_rows
+        Up to this many rows the clusters compare every pair of rows; above, every row is compared with a
+        fixed sample (:func:`globcons.core.weights.neighbour_counts`).
     window
         Half-width of the JSD smoothing window (0: none).
     rules
@@ -36,7 +41,8 @@ class ScoreOptions:
     """
 
     weights: str = "henikoff"
-    identity: float = 0.8
+    identity: float = NEFF_IDENTITY
+    neff_exact_rows: int = NEFF_EXACT_MAX_ROWS
     window: int = 0
     rules: ClassRules = ClassRules()
     reference: str | None = None
@@ -47,7 +53,10 @@ class ScoreOptions:
     def __post_init__(self) -> None:
         if self.window < 0:
             raise OptionError(f"--window must not be negative, got {self.window}")
-
+        if not 0.0 < self.identity <= 1.0:
+            raise OptionError(f"--identity must be in (0, 1], got {self.identity}")
+        if self.neff_exact_rows < 0:
+            raise OptionError(f"--neff-exact-rows must not be negative, got {self.neff_exact_rows}")
 
 
 def options_from_keywords(options: ScoreOptions | None, keywords: dict) -> ScoreOptions:

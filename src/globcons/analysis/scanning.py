@@ -12,7 +12,9 @@ Per residue, ``deviation`` is
     the column is invariant in the family and the residue differs from it;
 ``leaves-group``
     the column is conservative and the residue does not score above 0 (in the family's matrix) with every
-    residue of the column's substitution group;
+    residue of the column's substitution group; or the column is a hydrophobic core (weighted mean
+    Fauchère & Pliška 1983 hydrophobicity of at least 1.0, so W, F, Y, M and C count as hydrophobic) and
+    the residue is polar (S, Q, N, E, D, K, R), whatever the column's class but gap-rich;
 ``insertion``
     the residue sits between the family's columns (or outside the aligned region);
 ``none``
@@ -38,9 +40,10 @@ from globcons.align.placement import PlacedSequence, place_many
 from globcons.align.scoring_profile import frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.analysis.family import Family, frame_family
-from globcons.core.alphabet import N_RESIDUES, encode, looks_like_nucleotide
+from globcons.core.alphabet import N_RESIDUES, N_STANDARD, encode, looks_like_nucleotide
 from globcons.core.labels import HELICES
 from globcons.core.matrices import compatible_pairs
+from globcons.core.properties import CORE_HYDROPHOBICITY_ARRAY, HYDROPHOBIC_CORE_MIN, POLAR_MAX
 from globcons.core.vocabulary import DEVIATIONS
 from globcons.errors import OptionError
 
@@ -142,6 +145,11 @@ def _deviations(family: Family, codes: np.ndarray, columns: np.ndarray) -> np.nd
     safe = np.where(is_residue, residue, 0)
     compatible = ~((~pairs[safe]) & family.groups[cols]).any(axis=1)
     leaves = (classes == "conservative") & is_residue & ~compatible
+    # A polar residue in a hydrophobic core column leaves it, whatever the column's class (not gap-rich).
+    standard = residue < N_STANDARD
+    polar = standard & (CORE_HYDROPHOBICITY_ARRAY[np.where(standard, residue, 0)] < POLAR_MAX)
+    core = np.nan_to_num(family.core_hydrophobicity[cols], nan=-np.inf) >= HYDROPHOBIC_CORE_MIN
+    leaves |= polar & core & (classes != "gap-rich") & ~breaks
     result = np.where(breaks, BREAKS_INVARIANT, np.where(leaves, LEAVES_GROUP, NO_DEVIATION))
     deviation[placed] = result
     return deviation
@@ -320,8 +328,14 @@ def scan(records: Iterable[tuple[str, str]], family: Family | None = None,
     >>> from globcons.frame.reference import reference_chain
     >>> beta = reference_chain("human_hemoglobin_beta").full_sequence
     >>> summary, residues = scan([("beta", beta), ("beta_H92Y", beta[:92] + "Y" + beta[93:])])
-    >>> summary[["id", "pocket", "departures_invariant"]].values.tolist()
-    [['beta', 'canonical', 0], ['beta_H92Y', 'altered: F8 Y', 1]]
+    >>> summary[["id", "pocket"]].values.tolist()
+    [['beta', 'canonical'], ['beta_H92Y', 'altered: F8 Y']]
+
+    Departures are judged against the family's confident classes: the built-in one is three chains,
+    too thin for any (give ``family=family_from_alignment(...)``), so here both rows have none.
+
+    >>> summary["departures"].tolist()
+    [0, 0]
     """
     parts = list(iter_scan(records, family, residues=True, jobs=jobs, shuffles=shuffles))
     if not parts:

@@ -5,12 +5,14 @@ each chunk holds whole records, parsed by the same byte path as a file in memory
 blocks of :data:`~globcons.core.counts.CHUNK_ROWS` rows that the in-memory path uses, so both paths sum
 the same numbers in the same order and the column tables are identical.
 
-``henikoff`` weights take two passes: pass 1 gathers the unweighted counts (``r`` and ``s`` of every
-column), a 64-bit hash per row (the number of distinct rows), the ids, the anchor candidates and the
-``--reference`` row; pass 2 computes each row's raw weight and the weighted counts. ``none`` weights take
-one pass; ``cluster`` weights compare all pairs of rows and refuse to stream.
+Two passes: pass 1 gathers the unweighted counts (``r`` and ``s`` of every column, for Henikoff weights),
+a 64-bit hash per row (the number of distinct rows), the ids, the anchor candidates, the ``--reference``
+row, and what the cluster weights need (every row's codes up to the exact limit of
+:class:`~globcons.core.weights.ClusterCounts`, else its fixed sample); pass 2 computes each row's
+weights and the weighted counts.
 
-Memory is that of one chunk (a few times its bytes) plus, per row, one id string and one 8-byte hash.
+Memory is that of one chunk (a few times its bytes) plus, per row, one id string and one 8-byte hash, plus
+the codes the cluster weights keep (at most the exact limit's rows, else the sample's).
 
 When to stream (:func:`plan_reading`): always with ``--chunk-rows N``; otherwise when the estimated
 in-memory need (three times the uncompressed file size plus the code matrix, taken as the file size)
@@ -31,8 +33,8 @@ import pandas as pd
 
 from globcons.analysis.columns import read_user_sites, table_from_summary
 from globcons.analysis.options import ScoreOptions
-from globcons.analysis.summary import ColumnSummary, TopRows, count_blocks, rows_alignment
-from globcons.core.weights import CLUSTER_MAX_ROWS
+from globcons.analysis.summary import ColumnSummary, TopRows, cluster_counter, count_blocks, rows_alignment
+from globcons.core.weights import SCHEMES
 from globcons.errors import InputWarning, OptionError
 from globcons.io.checks import unique_ids
 from globcons.io.chunks import STREAM_FORMATS, ChunkedFasta, chunk_rows_for, reblock
@@ -122,11 +124,11 @@ def plan_reading(alignment: str, weights: str = "henikoff", keep_inserts: bool =
         return ReadPlan(False)
     shown = f"about {needed / 1e9:.1f} GB needed in memory, {available / 1e9:.1f} GB available"
     fmt = format or format_from_name(alignment) or _sniff_path(path)
-    if fmt in STREAM_FORMATS and weights in ("henikoff", "none") and not keep_inserts:
+    if fmt in STREAM_FORMATS and weights in SCHEMES and not keep_inserts:
         return ReadPlan(True, None, f"{alignment}: {shown}: reading it in two passes, in chunks "
                                     "(--chunk-rows sets their size)")
-    raise OptionError(f"{alignment}: {shown}; use --chunk-rows (streaming reads FASTA or A2M, with --weights "
-                      "henikoff or none and without --keep-inserts)")
+    raise OptionError(f"{alignment}: {shown}; use --chunk-rows (streaming reads FASTA or A2M, without "
+                      "--keep-inserts)")
 
 
 def _sniff_path(path: Path) -> str:
@@ -137,12 +139,7 @@ def _sniff_path(path: Path) -> str:
 
 
 def _refuse(options: ScoreOptions, keep_inserts: bool, fmt: str) -> None:
-    if options.weights == "cluster":
-        raise OptionError(
-            "cluster weights compare every pair of rows, so they need the whole alignment in memory and "
-            "cannot stream; with --chunk-rows use --weights henikoff (the default) or none, or read the "
-            f"alignment in memory (without --chunk-rows; cluster weights allow up to {CLUSTER_MAX_ROWS:,} rows)")
-    if options.weights not in ("henikoff", "none"):
+    if options.weights not in SCHEMES:
         raise OptionError(f"unknown weighting scheme {options.weights!r}")
     if keep_inserts:
         raise OptionError("--keep-inserts pads the insert columns to the longest over all rows and cannot "
@@ -162,7 +159,7 @@ def summarise_file(source: str | os.PathLike | BinaryIO, options: ScoreOptions, 
         A path (gzip detected by its magic bytes), ``"-"`` for standard input (spooled to a temporary
         file, as it is read twice) or a binary stream.
     options
-        The scoring options (``weights`` must be ``henikoff`` or ``none``).
+        The scoring options.
     chunk_rows
         Records per chunk (None: about :data:`~globcons.io.chunks.CHUNK_BYTES` per chunk). Memory grows with it;
         the result
@@ -175,13 +172,13 @@ def summarise_file(source: str | os.PathLike | BinaryIO, options: ScoreOptions, 
     Raises
     ------
     OptionError
-        Cluster weights, ``keep_inserts``, a format other than FASTA/A2M, an unknown ``--reference``.
+        ``keep_inserts``, a format other than FASTA/A2M, an unknown ``--reference``.
     InputError
         As the in-memory reader, with the line numbers of the whole file.
     """
     if format is not None and format not in FORMATS:
         raise OptionError(f"unknown format {format!r}")
-    if options.weights == "cluster" or keep_inserts:
+    if keep_inserts:
         _refuse(options, keep_inserts, format or "fasta")
     if chunk_rows is not None and chunk_rows < 1:
         raise OptionError(f"--chunk-rows must be at least 1, got {chunk_rows}")
@@ -197,7 +194,8 @@ def summarise_file(source: str | os.PathLike | BinaryIO, options: ScoreOptions, 
         reader = ChunkedFasta(opened, fmt, chunk_rows or chunk_rows_for(opened), options.reference)
         top = TopRows()
         passes = iter((True, False))
-        counts, n_eff = count_blocks(lambda: reblock(reader.matrices(next(passes))), None, options.weights, top)
+        counted = count_blocks(lambda: reblock(reader.matrices(next(passes))), None, options.weights, top,
+                               cluster_counter(options))
     finally:
         opened.close()
     n_rows = len(reader.ids)
@@ -216,7 +214,8 @@ def summarise_file(source: str | os.PathLike | BinaryIO, options: ScoreOptions, 
     width = int(reader.width or 0)
     labels, found_in = carried_labels(None, opened.path, width)
     rows = rows_alignment(ids, index, kept, opened.name, fmt).with_frame_labels(labels, found_in)
-    return ColumnSummary(counts, n_eff, n_rows, width, rows, reader.notes())
+    return ColumnSummary(counted.counts, counted.neff_counts, counted.n_eff, counted.neighbours, n_rows, width, rows,
+                         reader.notes())
 
 
 def stream_columns(source: str | os.PathLike | BinaryIO, options: ScoreOptions | None = None,

@@ -17,26 +17,38 @@ from globcons.align.anchor import ANCHOR_CANDIDATES
 from globcons.analysis.options import ScoreOptions
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import N_CODES, N_RESIDUES
-from globcons.core.counts import CHUNK_ROWS, block_counts, column_counts
-from globcons.core.weights import HenikoffSums, compute_weights, hash_powers, henikoff_raw, henikoff_table, row_hashes
+from globcons.core.counts import CHUNK_ROWS, block_counts
+from globcons.core.weights import (
+    ClusterCounts,
+    HenikoffSums,
+    NeighbourCounts,
+    hash_powers,
+    henikoff_raw,
+    henikoff_table,
+    row_hashes,
+)
 from globcons.errors import OptionError
 
-__all__ = ["ColumnSummary", "TopRows", "count_blocks", "matrix_blocks", "rows_alignment", "summarise_alignment"]
+__all__ = ["ColumnSummary", "TopRows", "BlockCounts", "count_blocks", "cluster_counter", "matrix_blocks",
+           "rows_alignment", "summarise_alignment"]
 
 
 @dataclass(frozen=True)
 class ColumnSummary:
     """What the column table is made from: weighted counts and the alignment's metadata.
 
-    The in-memory path (:func:`score_columns`) and the streaming path (:mod:`globcons.analysis.streaming`) both
-    build one and hand it to :func:`table_from_summary`, so everything after the counts is shared.
-
     Attributes
     ----------
     counts
-        ``float64``, shape (L, N_CODES): weighted count of every code in every column.
+        ``float64``, shape (L, N_CODES): count of every code in every column, weighted by the frequency
+        weights (``--weights``).
+    neff_counts
+        ``float64``, shape (L, N_CODES): the same weighted by cluster weights (``1 / m``, ``m`` the rows
+        within the identity threshold): their sums are the effective numbers of sequences.
     n_eff
-        Effective number of sequences (sum of the weights).
+        Effective number of sequences: the sum of the cluster weights.
+    neighbours
+        How the cluster weights were counted (exact, or estimated from a sample).
     n_rows, n_columns
         N and L of the whole alignment.
     rows
@@ -48,7 +60,9 @@ class ColumnSummary:
     """
 
     counts: np.ndarray
+    neff_counts: np.ndarray
     n_eff: float
+    neighbours: NeighbourCounts
     n_rows: int
     n_columns: int
     rows: Alignment
@@ -77,9 +91,23 @@ class TopRows:
         self.residues, self.index, self.codes = residues[keep], index[keep], codes[keep]
 
 
+@dataclass(frozen=True, eq=False)
+class BlockCounts:
+    """The result of :func:`count_blocks`."""
+
+    counts: np.ndarray
+    neff_counts: np.ndarray
+    neighbours: NeighbourCounts
+
+    @property
+    def n_eff(self) -> float:
+        """The effective number of sequences: the sum of the cluster weights."""
+        return self.neighbours.n_eff
+
+
 def count_blocks(blocks: Callable[[], Iterable[np.ndarray]], n_columns: int | None, scheme: str,
-                 top: TopRows | None = None) -> tuple[np.ndarray, float]:
-    """Weighted column counts from blocks of rows, in one pass (``none``) or two (``henikoff``).
+                 top: TopRows | None = None, clusters: ClusterCounts | None = None) -> BlockCounts:
+    """Weighted column counts from blocks of rows, in two passes.
 
     Parameters
     ----------
@@ -90,15 +118,22 @@ def count_blocks(blocks: Callable[[], Iterable[np.ndarray]], n_columns: int | No
     n_columns
         L (None: the width of the first block; a stream learns it there).
     scheme
-        ``"henikoff"`` or ``"none"``.
+        Frequency weights: ``"henikoff"``, ``"none"`` or ``"cluster"``.
     top
         Filled with the anchor candidates during the first pass, if given.
+    clusters
+        How the cluster weights are counted (default: :class:`~globcons.core.weights.ClusterCounts`
+        with its defaults).
 
     Returns
     -------
-    counts, n_eff
-        Shape (L, N_CODES), and the sum of the weights.
+    BlockCounts
+        Counts (L, N_CODES) under the frequency weights and under the cluster weights, and how the latter
+        were counted.
     """
+    if scheme not in ("henikoff", "none", "cluster"):
+        raise OptionError(f"unknown weighting scheme {scheme!r}")
+    clusters = clusters or ClusterCounts()
     plain: np.ndarray | None = None
     hashes: list[np.ndarray] = []
     n_rows = 0
@@ -109,33 +144,41 @@ def count_blocks(blocks: Callable[[], Iterable[np.ndarray]], n_columns: int | No
         plain += block_counts(block)
         if top is not None:
             top.offer(block, n_rows)
+        clusters.first_pass(block, n_rows)
         if scheme == "henikoff":
             hashes.append(row_hashes(block, powers))
         n_rows += block.shape[0]
+    n_columns = n_columns or 0
     if plain is None:
-        n_columns = n_columns or 0
         plain = np.zeros(n_columns * N_CODES)
-    size = n_columns * N_CODES
-    if scheme == "none":
-        return plain.reshape(n_columns, N_CODES), float(n_rows)
-    if scheme != "henikoff":
-        raise OptionError(f"weights {scheme!r} cannot be computed from blocks of rows")
+    clusters.finish_first_pass()
     distinct = int(np.unique(np.concatenate(hashes)).size) if hashes else 0
     del hashes
-    flat_table = henikoff_table(plain.reshape(n_columns, N_CODES))
+    flat_table = henikoff_table(plain.reshape(n_columns, N_CODES)) if scheme == "henikoff" else None
+    size = n_columns * N_CODES
     weighted, empty_counts = np.zeros(size), np.zeros(size)
     sums = HenikoffSums()
+    start = 0
     for block in blocks():
+        clusters.second_pass(block, start)
+        start += block.shape[0]
+        if flat_table is None:
+            continue
         raw, empty = henikoff_raw(block, flat_table)
         sums.add(raw, empty)
         weighted += block_counts(block, raw)
         if empty.any():
             empty_counts += block_counts(block[empty])
-    # Rows without residues weigh the mean raw weight, known only now: their counts were kept apart.
-    scale = sums.scale(distinct) if n_rows else 0.0
-    counts = (weighted + sums.mean_raw * empty_counts) * scale
-    n_eff = (sums.raw_sum + sums.n_empty * sums.mean_raw) * scale
-    return counts.reshape(n_columns, N_CODES), float(n_eff)
+    neff_counts, neighbours = clusters.finish(n_columns)
+    if scheme == "none":
+        counts = plain.reshape(n_columns, N_CODES)
+    elif scheme == "cluster":
+        counts = neff_counts
+    else:
+        # Rows without residues weigh the mean raw weight, known only now: their counts were kept apart.
+        scale = sums.scale(distinct) if n_rows else 0.0
+        counts = ((weighted + sums.mean_raw * empty_counts) * scale).reshape(n_columns, N_CODES)
+    return BlockCounts(counts, neff_counts, neighbours)
 
 
 def matrix_blocks(codes: np.ndarray, chunk_rows: int = CHUNK_ROWS) -> Callable[[], Iterator[np.ndarray]]:
@@ -154,17 +197,16 @@ def rows_alignment(alignment_ids: Sequence[str], index: np.ndarray, codes: np.nd
                      column_annotations=dict(annotations or {}))
 
 
+def cluster_counter(options: ScoreOptions) -> ClusterCounts:
+    """The :class:`~globcons.core.weights.ClusterCounts` the options ask for."""
+    return ClusterCounts(options.identity, options.neff_exact_rows)
+
+
 def summarise_alignment(alignment: Alignment, options: ScoreOptions) -> ColumnSummary:
     """The :class:`ColumnSummary` of an alignment in memory (weights, counts, anchor candidates)."""
     codes = alignment.codes
     top = TopRows(alignment.n_columns)
-    if options.weights == "cluster" or options.weights not in ("henikoff", "none"):
-        weights = compute_weights(codes, options.weights, options.identity)
-        counts, n_eff = column_counts(codes, weights.values), weights.n_eff
-        for start in range(0, codes.shape[0], CHUNK_ROWS):
-            top.offer(codes[start:start + CHUNK_ROWS], start)
-    else:
-        counts, n_eff = count_blocks(matrix_blocks(codes), alignment.n_columns, options.weights, top)
+    counted = count_blocks(matrix_blocks(codes), alignment.n_columns, options.weights, top, cluster_counter(options))
     index, kept = top.index, top.codes
     if options.reference is not None:
         if options.reference not in alignment.ids:
@@ -175,5 +217,5 @@ def summarise_alignment(alignment: Alignment, options: ScoreOptions) -> ColumnSu
                           alignment.column_annotations)
     if alignment.frame_labels is not None:
         rows = rows.with_frame_labels(alignment.frame_labels, alignment.frame_labels_from)
-    return ColumnSummary(counts, n_eff, alignment.n_rows, alignment.n_columns, rows, dict(alignment.notes))
-
+    return ColumnSummary(counted.counts, counted.neff_counts, counted.n_eff, counted.neighbours, alignment.n_rows,
+                         alignment.n_columns, rows, dict(alignment.notes))

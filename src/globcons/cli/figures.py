@@ -73,8 +73,8 @@ def logo(alignment: str, output: str, label_range: str | None, column_spec: str 
 @click.command()
 @alignment_argument
 @click.option("-o", "--output", required=True, help=_OUTPUT_HELP)
-@click.option("--score", type=click.Choice(tuple(PROFILE_SCORES)), default="entropy_norm", show_default=True,
-              help="Score to plot (entropy_norm is drawn as 1 - entropy_norm: up = more conserved).")
+@click.option("--score", type=click.Choice(tuple(PROFILE_SCORES)), default="conservation", show_default=True,
+              help="Score to plot, as the table has it (higher = more conserved; gaps lower every score).")
 @frame_options
 @click.option("--title", default=None, help="Figure title (default: the file and the score).")
 @reader_options

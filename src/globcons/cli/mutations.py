@@ -94,6 +94,7 @@ def _split(text: str) -> list[str]:
 
 def _metadata(target: Target, numbering: str) -> dict[str, Any]:
     return {"target": target.id, "numbering": numbering, "family": target.family.name,
+            "family_effective_sequences": round(target.family.n_eff, 6), "thin_family": target.family.thin,
             "nearest_reference": target.placed.nearest_reference}
 
 
@@ -116,6 +117,8 @@ def _load_target(target_path: str | None, target_id: str | None, family_path: st
         mapping = map_columns(aligned)
         family = family_from_alignment(aligned, labels=mapping.labels)
         reporter.info(f"family: {aligned.n_rows} sequences, {aligned.n_columns} columns; {mapping.note}")
+    if family.thin:
+        reporter.warn(family.describe())
     if target_path is None:
         if aligned is None or target_id is None:
             raise click.UsageError("give a TARGET file, or --target ID naming a row of --family")

@@ -8,13 +8,15 @@ constants live with figures or structures, are defined in that command's module.
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
+from dataclasses import fields
 from typing import TYPE_CHECKING, Any, TypeVar
 
 import click
 
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alphabet import RESIDUE_GROUPS
-from globcons.core.weights import SCHEMES
+from globcons.core.classes import ClassRules
+from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, SCHEMES
 from globcons.io.formats import FORMATS, TABLE_FORMATS
 
 if TYPE_CHECKING:
@@ -34,6 +36,8 @@ __all__ = [
 F = TypeVar("F", bound=Callable[..., Any])
 
 RESIDUE_GROUP_NAMES = tuple(sorted(RESIDUE_GROUPS))
+#: The class rules' defaults (read from the dataclass: building one would load the matrix).
+_RULES = {field.name: field.default for field in fields(ClassRules)}
 
 
 def _apply(command: F, options: Sequence[Callable[[F], F]]) -> F:
@@ -61,20 +65,31 @@ def scoring_options(command: F) -> F:
     """Weighting, class thresholds and smoothing of the column scores (read back by :func:`score_options`)."""
     return _apply(command, [
         click.option("--weights", type=click.Choice(SCHEMES), default="henikoff", show_default=True,
-                     help="Sequence weighting."),
-        click.option("--identity", type=float, default=0.8, show_default=True,
-                     help="Identity threshold of --weights cluster."),
-        click.option("--matrix", default="BLOSUM62", show_default=True,
+                     help="Sequence weights for the residue frequencies."),
+        click.option("--identity", type=float, default=NEFF_IDENTITY, show_default=True,
+                     help="Rows at least this identical form one cluster: the effective sequences (and "
+                          "--weights cluster) count clusters."),
+        click.option("--neff-exact-rows", type=click.IntRange(0, None), default=NEFF_EXACT_MAX_ROWS,
+                     show_default=True,
+                     help="Up to this many rows the clusters compare every pair; above, a fixed sample."),
+        click.option("--matrix", default=_RULES["matrix"], show_default=True,
                      help="Substitution matrix (any Biopython ships) judging conservative groups."),
         click.option("--residue-groups", type=click.Choice(RESIDUE_GROUP_NAMES), default=None,
                      help="Judge conservative groups by a fixed reduced alphabet instead of the matrix."),
-        click.option("--max-gaps", type=float, default=0.5, show_default=True,
+        click.option("--max-gaps", type=float, default=_RULES["max_gaps"], show_default=True,
                      help="A column with a larger weighted gap fraction is gap-rich."),
-        click.option("--invariant-min", type=float, default=1.0, show_default=True,
-                     help="Share of the residue weight one residue needs for invariant."),
-        click.option("--group-min", type=float, default=1.0, show_default=True,
-                     help="Share of the residue weight that must form one substitution group for conservative."),
-        click.option("--min-neff", type=float, default=5.0, show_default=True,
+        click.option("--invariant-min", type=float, default=_RULES["invariant_min"], show_default=True,
+                     help="Share of the column one residue must hold (with --confidence) for invariant."),
+        click.option("--group-min", type=float, default=_RULES["group_min"], show_default=True,
+                     help="Share of the column one substitution group must hold (with --confidence) for "
+                          "conservative."),
+        click.option("--confidence", type=float, default=_RULES["confidence"], show_default=True,
+                     help="Posterior probability a class needs: that the share reaches its threshold, given "
+                          "the column's effective sequences."),
+        click.option("--prior-weight", type=float, default=_RULES["prior_weight"], show_default=True,
+                     help="Weight of the Dirichlet prior (BLOSUM62 background frequencies) behind that "
+                          "probability."),
+        click.option("--min-neff", type=float, default=_RULES["min_neff"], show_default=True,
                      help="Columns with fewer effective sequences are flagged low_data."),
         click.option("--window", type=int, default=0, show_default=True,
                      help="Smooth the JSD score over this many neighbours on each side (0: off)."),
@@ -108,11 +123,12 @@ def score_options(kw: Mapping[str, Any]) -> ScoreOptions:
         What :func:`globcons.analysis.columns.score_columns` takes.
     """
     from globcons.analysis.options import ScoreOptions
-    from globcons.core.classes import ClassRules
 
     rules = ClassRules(max_gaps=kw["max_gaps"], invariant_min=kw["invariant_min"], group_min=kw["group_min"],
-                       matrix=kw["matrix"], residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
-    return ScoreOptions(weights=kw["weights"], identity=kw["identity"], window=kw["window"], rules=rules,
+                       confidence=kw["confidence"], prior_weight=kw["prior_weight"], matrix=kw["matrix"],
+                       residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
+    return ScoreOptions(weights=kw["weights"], identity=kw["identity"], neff_exact_rows=kw["neff_exact_rows"],
+                        window=kw["window"], rules=rules,
                         reference=kw.get("reference"), frame=not kw.get("no_frame", False),
                         sites_path=kw.get("sites_path"), replace_sites=kw.get("replace_sites", False))
 

@@ -18,8 +18,8 @@ __all__ = ["paint"]
 @click.option("--alignment", "alignment_path", required=True, type=click.Path(dir_okay=True, allow_dash=True),
               help="The family alignment whose column scores are painted ('-' reads standard input).")
 @click.option("--chain", default=None, help="Chain to paint (default: the first chain with protein residues).")
-@click.option("--score", type=click.Choice(tuple(SCORES)), default="entropy_norm", show_default=True,
-              help="Column score written into the B-factors (conservation = 1 - entropy_norm).")
+@click.option("--score", type=click.Choice(tuple(SCORES)), default="conservation", show_default=True,
+              help="Column score written into the B-factors (the profile's scores: higher = more conserved).")
 @click.option("--unmapped", "unmapped_value", type=float, default=SENTINEL, show_default=True,
               help="B-factor of every atom without a score: unmapped residues, other chains, waters, ligands.")
 @click.option("-o", "--output", required=True,

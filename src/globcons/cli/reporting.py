@@ -78,7 +78,14 @@ def warn_low_data(table: pd.DataFrame, reporter: Reporter) -> None:
     reporter
         Where the warning goes.
     """
-    low = table.attrs["low_data_columns"]
+    meta = table.attrs
+    min_neff = meta["rules"]["min_neff"]
+    if meta.get("thin_family"):
+        reporter.warn(f"the family holds only {meta['effective_sequences']:.1f} effective sequences (fewer than "
+                      f"{min_neff:g}; {meta.get('effective_sequences_method', 'clusters')}): it is thin, and every "
+                      "class rests on little evidence")
+        return
+    low = meta["low_data_columns"]
     if low:
-        reporter.warn(f"{low} of {table.attrs['columns']} columns have fewer than {table.attrs['rules']['min_neff']:g} "
-                      "effective sequences (flagged low_data): their classes rest on little evidence")
+        reporter.warn(f"{low} of {meta['columns']} columns have fewer than {min_neff:g} effective sequences "
+                      "(flagged low_data): their classes rest on little evidence")

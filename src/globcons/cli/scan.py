@@ -48,9 +48,11 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     pocket, departures from the family's invariant and conservative columns, and flags. With
     --residues, one row per residue with its frame label, column class and deviation.
     """
+    from globcons._version import __version__
     from globcons.analysis.scanning import default_jobs
     from globcons.io.atomic import check_not_input
     from globcons.io.records import stream_records
+    from globcons.io.tables import metadata_path, write_metadata
 
     inputs = [sequences, family_path]
     for path in (output, residues_path, heatmap_path):
@@ -60,7 +62,12 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
         from globcons.plots.output import figure_format  # matplotlib only when a figure is asked for
 
         figure_format(heatmap_path)  # fail on a bad extension before the work
+    meta = metadata_path(output)
+    if meta is not None:
+        check_not_input(meta, inputs)
     family = _load_family(family_path, fmt, keep_inserts, reporter)
+    if family.thin:
+        reporter.warn(family.describe())
     jobs = jobs or default_jobs()
     records = ((r.id, r.sequence) for r in stream_records(sequences))
     counts, kept = _write_scan(records, family, output, residues_path, table_format, inputs, jobs, batch_size,
@@ -76,6 +83,12 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
 
         save_figure(draw_departure_heatmap(pd.concat(kept, ignore_index=True)), heatmap_path, inputs)
     written = [p for p in (output, residues_path, heatmap_path) if p not in (None, "-")]
+    meta = metadata_path(output)
+    if meta is not None:
+        written.append(write_metadata(meta, {
+            "tool": "globcons", "version": __version__, "family": family.name,
+            "family_effective_sequences": round(family.n_eff, 6), "thin_family": family.thin,
+            "shuffles": shuffles, "sequences": counts["sequences"], "globins": counts["globins"]}, inputs))
     if written:
         reporter.info("wrote " + ", ".join(written))
 

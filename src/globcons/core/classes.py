@@ -1,16 +1,38 @@
-"""Column classes: ``invariant``, ``conservative``, ``variable``, ``gap-rich``.
+"""Column classes: ``invariant``, ``conservative``, ``variable``, ``gap-rich``, decided with their support.
+
+A column's class is a statement about the family, not about the sample: one divergent sequence in fifty
+should not make a histidine column "variable", and three sequences that agree prove little. So every
+class is decided from a posterior distribution of the column's residue shares given how much independent
+evidence the column has (its effective number of sequences ``n_eff``: cluster weights at 80% identity,
+:mod:`globcons.core.weights`).
+
+The model
+---------
+A column's residue shares ``p`` get a Dirichlet prior of total weight ``prior_weight`` (``A``, default 1)
+spread by the BLOSUM62 background frequencies ``q`` (Henikoff & Henikoff 1992); the observed residues are
+``n = n_eff`` draws with the column's weighted frequencies ``f``, so the posterior is
+``Dirichlet(A q + n f)`` (the conjugate update of a multinomial; e.g. Gelman et al., Bayesian Data
+Analysis, 3rd ed., section 3.4). The share of any set of residues ``S`` is then Beta distributed:
+``Beta(A q_S + n f_S, A (1 - q_S) + n (1 - f_S))``, and its tail is the regularised incomplete beta
+function (``scipy.special.betainc``).
 
 Rules, in order (every threshold is a field of :class:`ClassRules`):
 
-1. ``gap-rich``: the weighted gap fraction is above ``max_gaps``.
-2. ``invariant``: one residue carries at least ``invariant_min`` of the residue weight.
-3. ``conservative``: the most frequent residues that together carry at least ``group_min`` of the
-   residue weight form one substitution group: with a matrix, every pair of them scores above 0
-   (Biopython's copy of the matrix; U and O scored as C and K); with ``residue_groups``, they all
-   fall in one group of that reduced alphabet.
+1. ``gap-rich``: the weighted gap fraction is above ``max_gaps``;
+2. ``invariant``: the posterior probability that the most frequent residue's share is at least
+   ``invariant_min`` (0.8) is at least ``confidence`` (0.9);
+3. ``conservative``: the same for the share of the column's substitution group and ``group_min``
+   (0.8). The group is built greedily: residues by descending frequency, each kept if it is compatible
+   with every residue kept before it (with a matrix: the pair scores above 0 in Biopython's copy, U and O
+   scored as C and K; with ``residue_groups``: both in one group of that reduced alphabet);
 4. ``variable``: the rest.
 
-A column whose ``n_eff`` is below ``min_neff`` keeps its class and is flagged ``low_data``.
+``support`` is the posterior probability behind the class: of the invariant share (invariant), of the
+group share (conservative), of the group share *not* reaching ``group_min`` (variable), of the gap share
+exceeding ``max_gaps`` (gap-rich, with a Jeffreys prior). With the defaults, about eleven effective
+sequences that agree are needed before a column is invariant (three give a support near 0.5), and one
+outlier in fifty moves nothing. A column whose ``n_eff`` is below ``min_neff`` is also flagged
+``low_data``.
 """
 
 from __future__ import annotations
@@ -19,15 +41,22 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from globcons.core.alphabet import GROUP_SOURCES, N_RESIDUES, RESIDUE_GROUPS
+from globcons.core.alphabet import GROUP_SOURCES, N_RESIDUES, N_STANDARD, RESIDUE_GROUPS
 from globcons.core.matrices import DEFAULT_MATRIX, compatible_pairs, load_matrix
-from globcons.core.scores import LOG2_20, entropy_bits, gap_fraction, residue_frequencies
+from globcons.core.scores import BLOSUM62_BACKGROUND, LOG2_20, entropy_bits, gap_fraction, residue_frequencies
 from globcons.core.vocabulary import CLASSES
 from globcons.errors import OptionError
 
-__all__ = ["CLASSES", "ClassRules", "ColumnStatistics", "column_statistics", "classify", "top_residues"]
+__all__ = ["CLASSES", "ClassRules", "ColumnStatistics", "column_statistics", "classify", "substitution_groups",
+           "share_above", "RESIDUE_BACKGROUND"]
 
 _TOLERANCE = 1e-9  # weighted frequencies are sums of floats: 1.0 may arrive as 0.9999999999
+#: Prior shares of the 22 residue codes: the BLOSUM62 background of the 20 standard residues; U and O,
+#: which the matrix does not know, get none.
+RESIDUE_BACKGROUND = np.concatenate((BLOSUM62_BACKGROUND, np.zeros(N_RESIDUES - N_STANDARD)))
+RESIDUE_BACKGROUND.flags.writeable = False
+#: The Jeffreys prior Beta(1/2, 1/2) of the gap share behind the support of a gap-rich column.
+_JEFFREYS = 0.5
 
 
 @dataclass(frozen=True)
@@ -35,8 +64,10 @@ class ClassRules:
     """Thresholds of the column classes (see the module notes)."""
 
     max_gaps: float = 0.5
-    invariant_min: float = 1.0
-    group_min: float = 1.0
+    invariant_min: float = 0.8
+    group_min: float = 0.8
+    confidence: float = 0.9
+    prior_weight: float = 1.0
     matrix: str = DEFAULT_MATRIX
     residue_groups: str | None = None
     min_neff: float = 5.0
@@ -48,6 +79,10 @@ class ClassRules:
             raise OptionError(f"--invariant-min must be in (0, 1], got {self.invariant_min}")
         if not 0.0 < self.group_min <= 1.0:
             raise OptionError(f"--group-min must be in (0, 1], got {self.group_min}")
+        if not 0.0 < self.confidence < 1.0:
+            raise OptionError(f"--confidence must be in (0, 1), got {self.confidence}")
+        if not self.prior_weight > 0.0:
+            raise OptionError(f"--prior-weight must be above 0, got {self.prior_weight}")
         if self.min_neff < 0:
             raise OptionError(f"--min-neff must not be negative, got {self.min_neff}")
         if self.residue_groups is not None and self.residue_groups not in RESIDUE_GROUPS:
@@ -67,28 +102,48 @@ class ClassRules:
         return asdict(self)
 
 
-def top_residues(frequencies: np.ndarray, share: float) -> np.ndarray:
-    """The most frequent residues of each column that together carry at least ``share`` of its weight.
+def substitution_groups(frequencies: np.ndarray, matrix: str = DEFAULT_MATRIX,
+                        residue_groups: str | None = None) -> np.ndarray:
+    """Each column's substitution group, built greedily from its most frequent residue down.
 
-    Chosen by descending frequency, ties alphabetical; residues of frequency 0 never count.
+    A residue joins when it is compatible with every residue already in (see the module notes);
+    residues of frequency 0 never join. Vectorised over columns (one step per rank).
 
     Returns
     -------
     numpy.ndarray
         bool, shape (L, 22).
     """
+    clash = ~compatible_pairs(matrix, residue_groups)  # (22, 22)
     order = np.argsort(-frequencies, axis=1, kind="stable")
-    ranked = np.take_along_axis(frequencies, order, axis=1)
-    reached = np.cumsum(ranked, axis=1) >= share - _TOLERANCE
-    needed = np.where(reached.any(axis=1), reached.argmax(axis=1) + 1, N_RESIDUES)
-    in_top = np.zeros_like(frequencies, dtype=bool)
-    np.put_along_axis(in_top, order, np.arange(N_RESIDUES)[None, :] < needed[:, None], axis=1)
-    return in_top & (frequencies > 0)
+    chosen = np.zeros(frequencies.shape, dtype=bool)
+    rows = np.arange(frequencies.shape[0])
+    for rank in range(N_RESIDUES):
+        residue = order[:, rank]
+        candidate = frequencies[rows, residue] > 0
+        fits = ~(chosen & clash[residue]).any(axis=1)
+        chosen[rows, residue] = candidate & fits
+    return chosen
+
+
+def share_above(share: np.ndarray, prior: np.ndarray, n: np.ndarray, threshold: float,
+                prior_weight: float) -> np.ndarray:
+    """Posterior probability that a true share is at least ``threshold``.
+
+    The share is ``Beta(A q + n f, A (1 - q) + n (1 - f))`` (see the module notes), with ``f`` the
+    observed ``share``, ``q`` its ``prior`` share and ``A`` the prior weight; any shape.
+    """
+    from scipy.special import betainc  # the incomplete beta function; scipy only loads when classes are made
+
+    a = prior_weight * prior + n * share
+    b = prior_weight * (1.0 - prior) + n * (1.0 - share)
+    return 1.0 - betainc(np.maximum(a, 1e-12), np.maximum(b, 1e-12), threshold)
 
 
 def classify(frequencies: np.ndarray, gap_fraction: np.ndarray, n_eff: np.ndarray,
-             rules: ClassRules = ClassRules()) -> tuple[np.ndarray, np.ndarray]:
-    """Class and low-data flag of every column.
+             rules: ClassRules = ClassRules(), n_total: np.ndarray | None = None
+             ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Class, support, low-data flag and substitution group of every column (see the module notes).
 
     Parameters
     ----------
@@ -97,29 +152,44 @@ def classify(frequencies: np.ndarray, gap_fraction: np.ndarray, n_eff: np.ndarra
     gap_fraction
         (L,) weighted gap fraction.
     n_eff
-        (L,) summed weight of the rows holding a residue.
+        (L,) effective number of the sequences holding a residue in each column.
     rules
         Thresholds.
+    n_total
+        (L,) effective number of all sequences (with a residue, a gap or an unknown), for the support of
+        gap-rich columns; default ``n_eff / (1 - gap_fraction)``.
 
     Returns
     -------
-    classes, low_data
-        ``classes`` an object array of the words in :data:`CLASSES`; ``low_data`` bool.
+    classes, support, low_data, groups
+        Object array of the words of :data:`CLASSES`; ``float64`` support; bool; bool (L, 22).
     """
-    n_columns = frequencies.shape[0]
+    n_eff = np.asarray(n_eff, dtype=np.float64)
     has_residue = frequencies.sum(axis=1) > 0
-    invariant = frequencies.max(axis=1, initial=0.0) >= rules.invariant_min - _TOLERANCE
+    top = frequencies.argmax(axis=1)
+    rows = np.arange(frequencies.shape[0])
+    p_invariant = share_above(frequencies[rows, top], RESIDUE_BACKGROUND[top], n_eff, rules.invariant_min,
+                              rules.prior_weight)
+    groups = substitution_groups(frequencies, rules.matrix, rules.residue_groups)
+    p_group = share_above((frequencies * groups).sum(axis=1), groups @ RESIDUE_BACKGROUND, n_eff, rules.group_min,
+                          rules.prior_weight)
+    if n_total is None:
+        with np.errstate(invalid="ignore", divide="ignore"):
+            n_total = np.where(gap_fraction < 1.0, n_eff / (1.0 - gap_fraction), n_eff)
+    p_gaps = share_above(gap_fraction, np.full(gap_fraction.shape, 0.5), n_total, rules.max_gaps, 2 * _JEFFREYS)
 
-    in_top = top_residues(frequencies, rules.group_min)
-    clash = (in_top.astype(np.int64) @ (~compatible_pairs(rules.matrix, rules.residue_groups)).astype(np.int64))
-    conservative = ~(clash * in_top).any(axis=1) & has_residue
-
-    classes = np.full(n_columns, "variable", dtype=object)
+    invariant = has_residue & (p_invariant >= rules.confidence - _TOLERANCE)
+    conservative = has_residue & ~invariant & (p_group >= rules.confidence - _TOLERANCE)
+    gap_rich = gap_fraction > rules.max_gaps + _TOLERANCE
+    classes = np.full(frequencies.shape[0], "variable", dtype=object)
     classes[conservative] = "conservative"
-    classes[invariant & has_residue] = "invariant"
-    classes[gap_fraction > rules.max_gaps + _TOLERANCE] = "gap-rich"
+    classes[invariant] = "invariant"
+    classes[gap_rich] = "gap-rich"
+    support = np.where(invariant, p_invariant, np.where(conservative, p_group, 1.0 - p_group))
+    support = np.where(has_residue, support, np.nan)
+    support = np.where(gap_rich, p_gaps, support)
     low_data = n_eff < rules.min_neff - _TOLERANCE
-    return classes, low_data
+    return classes, support, low_data, groups
 
 
 @dataclass(frozen=True, eq=False)
@@ -133,15 +203,17 @@ class ColumnStatistics:
     gap_fraction
         (L,) weighted gap fraction.
     n_eff
-        (L,) summed weight of the rows holding a residue.
+        (L,) effective number of the sequences holding a residue (cluster weights).
     entropy_bits
         (L,) Shannon entropy over the 20 standard residues (NaN where a column has none).
     classes
         (L,) the words of :data:`CLASSES`.
+    support
+        (L,) the posterior probability behind each class.
     low_data
         (L,) bool: ``n_eff`` below the rules' ``min_neff``.
     groups
-        (L, 22) bool: each column's substitution group (its top residues carrying ``group_min``).
+        (L, 22) bool: each column's substitution group.
     """
 
     frequencies: np.ndarray
@@ -149,6 +221,7 @@ class ColumnStatistics:
     n_eff: np.ndarray
     entropy_bits: np.ndarray
     classes: np.ndarray
+    support: np.ndarray
     low_data: np.ndarray
     groups: np.ndarray
 
@@ -158,19 +231,23 @@ class ColumnStatistics:
         return self.entropy_bits / LOG2_20
 
 
-def column_statistics(counts: np.ndarray, rules: ClassRules = ClassRules()) -> ColumnStatistics:
-    """Frequencies, gaps, effective counts, entropy and classes of every column of weighted counts.
+def column_statistics(counts: np.ndarray, neff_counts: np.ndarray | None = None,
+                      rules: ClassRules = ClassRules()) -> ColumnStatistics:
+    """Frequencies, gaps, effective counts, entropy, classes and support of every column.
 
     Parameters
     ----------
     counts
-        (L, N_CODES) weighted counts (:func:`globcons.core.counts.column_counts`).
+        (L, N_CODES) counts weighted for the frequencies (Henikoff weights by default;
+        :func:`globcons.core.counts.column_counts`).
+    neff_counts
+        (L, N_CODES) counts weighted by cluster weights, for the effective numbers; None: ``counts``.
     rules
         Class thresholds.
     """
+    neff_counts = counts if neff_counts is None else neff_counts
     frequencies = residue_frequencies(counts)
     gaps = gap_fraction(counts)
-    n_eff = counts[:, :N_RESIDUES].sum(axis=1)
-    classes, low_data = classify(frequencies, gaps, n_eff, rules)
-    return ColumnStatistics(frequencies, gaps, n_eff, entropy_bits(counts), classes, low_data,
-                            top_residues(frequencies, rules.group_min))
+    n_eff = neff_counts[:, :N_RESIDUES].sum(axis=1)
+    classes, support, low_data, groups = classify(frequencies, gaps, n_eff, rules, neff_counts.sum(axis=1))
+    return ColumnStatistics(frequencies, gaps, n_eff, entropy_bits(counts), classes, support, low_data, groups)

@@ -10,6 +10,11 @@ codes 0-19):
     Zamyatnin 1972 residue volumes in cubic ångström.
 ``charge``
     Side-chain charge at neutral pH: +1 for Lys and Arg, -1 for Asp and Glu, 0 otherwise.
+``core hydrophobicity``
+    Fauchère & Pliška 1983 octanol/water side-chain hydrophobicity π, as Biopython ships it
+    (``Bio.SeqUtils.ProtParamData.fc``). Kyte-Doolittle rates Trp and Tyr as hydrophilic; this scale
+    rates the aromatic and sulfur residues of hydrophobic cores (W, F, Y, M, C) as hydrophobic, so it is
+    the one that decides whether a column is a hydrophobic core (:func:`core_hydrophobicity`).
 
 Where each table comes from is in :data:`SOURCES`; use it beside any number shown to a user.
 
@@ -25,6 +30,7 @@ from dataclasses import dataclass
 from types import MappingProxyType
 
 import numpy as np
+from Bio.SeqUtils import ProtParamData
 
 from globcons.core.alphabet import STANDARD
 from globcons.errors import OptionError
@@ -41,6 +47,12 @@ __all__ = [
     "property_change",
     "is_hydrophobic",
     "is_charged",
+    "CORE_HYDROPHOBICITY",
+    "CORE_HYDROPHOBICITY_ARRAY",
+    "HYDROPHOBIC_CORE_MIN",
+    "POLAR_MAX",
+    "is_polar",
+    "core_hydrophobicity",
 ]
 
 # Kyte & Doolittle 1982 J Mol Biol 157:105, table 2 (hydropathy index); values written from memory.
@@ -84,8 +96,21 @@ VOLUME_ARRAY = _as_array(VOLUME, np.float64)
 #: :data:`CHARGE` in the order of :data:`globcons.core.alphabet.STANDARD`, ``int64``.
 CHARGE_ARRAY = _as_array(CHARGE, np.int64)
 
+#: Fauchère & Pliška 1983 hydrophobicity π by one-letter code, from Biopython (see :data:`SOURCES`).
+CORE_HYDROPHOBICITY: Mapping[str, float] = MappingProxyType({letter: float(ProtParamData.fc[letter])
+                                                              for letter in STANDARD})
+#: :data:`CORE_HYDROPHOBICITY` in the order of :data:`globcons.core.alphabet.STANDARD`, ``float64``.
+CORE_HYDROPHOBICITY_ARRAY = _as_array(CORE_HYDROPHOBICITY, np.float64)
+#: A column is a hydrophobic core when the weighted mean π of its residues is at least this (between Tyr,
+#: 0.96, and Val, 1.22: a column of I, L, V, F, W, M or C residues is one, a column of Ala is not).
+HYDROPHOBIC_CORE_MIN = 1.0
+#: A residue is polar (it leaves a hydrophobic core) when its π is below this: S, Q, N, E, D, K, R.
+POLAR_MAX = 0.0
+
 #: Where each table comes from, by table name.
 SOURCES: Mapping[str, str] = MappingProxyType({
+    "core hydrophobicity": ("Fauchère & Pliška 1983 Eur J Med Chem 18:369 (octanol/water hydrophobicity π of "
+                            "the side chains), as shipped by Biopython in Bio.SeqUtils.ProtParamData.fc"),
     "hydropathy": "Kyte & Doolittle 1982 J Mol Biol 157:105 (hydropathy index; values from memory)",
     "volume": "Zamyatnin 1972 Prog Biophys Mol Biol 24:107 (residue volumes, Å^3; values from memory)",
     "charge": ("formal side-chain charge at neutral pH: +1 Lys, Arg; -1 Asp, Glu; 0 otherwise "
@@ -193,16 +218,42 @@ def property_change(wild: str, new: str) -> PropertyChange:
 
 
 def is_hydrophobic(letter: str) -> bool:
-    """Whether a residue is hydrophobic, taken here as a positive Kyte-Doolittle index.
+    """Whether a residue belongs in a hydrophobic core: its π is at least :data:`HYDROPHOBIC_CORE_MIN`.
 
-    By this rule I, V, L, F, C, M and A are hydrophobic; G and W (slightly negative indices) are not.
+    By this rule (Fauchère & Pliška 1983) W, I, F, L, C, M and V are hydrophobic; Tyr (0.96), Pro and Ala
+    are not.
 
     Raises
     ------
     OptionError
         If ``letter`` is not one of the 20 standard residues.
     """
-    return HYDROPATHY[_standard(letter, "the")] > 0
+    return CORE_HYDROPHOBICITY[_standard(letter, "the")] >= HYDROPHOBIC_CORE_MIN
+
+
+def is_polar(letter: str) -> bool:
+    """Whether a residue is polar enough to leave a hydrophobic core: its π is below :data:`POLAR_MAX`.
+
+    Raises
+    ------
+    OptionError
+        If ``letter`` is not one of the 20 standard residues.
+    """
+    return CORE_HYDROPHOBICITY[_standard(letter, "the")] < POLAR_MAX
+
+
+def core_hydrophobicity(frequencies: np.ndarray) -> np.ndarray:
+    """Weighted mean π (Fauchère & Pliška) of the standard residues of each column; NaN without residues.
+
+    Parameters
+    ----------
+    frequencies
+        (..., >= 20) residue frequencies, the first 20 in the order of ``STANDARD``.
+    """
+    standard = np.asarray(frequencies, dtype=np.float64)[..., :len(STANDARD)]
+    total = standard.sum(axis=-1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(total > 0, standard @ CORE_HYDROPHOBICITY_ARRAY / np.where(total > 0, total, 1.0), np.nan)
 
 
 def is_charged(letter: str) -> bool:

@@ -53,6 +53,8 @@ __all__ = [
     "smooth_window",
     "consensus",
     "residue_strings",
+    "conservation",
+    "property_conservation",
     "small_sample_correction",
     "information_bits",
     "LOG2_20",
@@ -144,6 +146,22 @@ def property_entropy(counts: np.ndarray, classes: str = PROPERTY_CLASSES) -> np.
     membership = np.eye(len(RESIDUE_GROUPS[classes]))[group_index(classes)]  # (22, groups) one-hot
     grouped = counts[..., :N_RESIDUES] @ membership
     return shannon_entropy(_share(grouped, grouped.sum(axis=-1, keepdims=True)))
+
+
+def conservation(counts: np.ndarray) -> np.ndarray:
+    """Gap-aware conservation: ``(1 - entropy_bits / log2 20) * (1 - gap_fraction)``.
+
+    1 for a column of one residue with no gaps, 0 for all twenty alike or for a column without residues;
+    gaps scale it down as Capra & Singh 2007 scale their scores, so a gappy column never scores as high
+    as a filled invariant one.
+    """
+    return np.nan_to_num(1.0 - entropy_norm(counts), nan=0.0) * (1.0 - gap_fraction(counts))
+
+
+def property_conservation(counts: np.ndarray, classes: str = PROPERTY_CLASSES) -> np.ndarray:
+    """:func:`conservation` over the reduced property alphabet: ``(1 - H / log2 k) * (1 - gap_fraction)``."""
+    k = len(RESIDUE_GROUPS[classes])
+    return np.nan_to_num(1.0 - property_entropy(counts, classes) / math.log2(k), nan=0.0) * (1.0 - gap_fraction(counts))
 
 
 def jensen_shannon(p: np.ndarray, q: np.ndarray) -> np.ndarray:

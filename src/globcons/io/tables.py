@@ -20,7 +20,7 @@ from globcons.errors import OptionError
 from globcons.io.atomic import atomic_output, check_not_input
 from globcons.io.formats import TABLE_FORMATS, table_format_for
 
-__all__ = ["FLOAT_DIGITS", "format_table", "write_table", "text_cell"]
+__all__ = ["FLOAT_DIGITS", "format_table", "write_table", "text_cell", "metadata_path", "write_metadata"]
 
 FLOAT_DIGITS = 4
 
@@ -178,7 +178,20 @@ def write_table(table: pd.DataFrame, path: str | os.PathLike | None, fmt: str | 
     if regular:
         written.append(str(path))
     if meta_path is not None:
-        with atomic_output(meta_path, inputs) as stream:
-            stream.write(json.dumps(_plain(metadata), indent=1, ensure_ascii=False) + "\n")
-        written.append(str(meta_path))
+        written.append(write_metadata(meta_path, metadata, inputs))
     return written
+
+
+def metadata_path(path: str | os.PathLike | None) -> Path | None:
+    """Where a table written to ``path`` keeps its metadata (``<path>.meta.json``); None for standard output
+    and special files."""
+    if path is None or str(path) == "-" or (Path(path).exists() and not Path(path).is_file()):
+        return None
+    return Path(f"{path}.meta.json")
+
+
+def write_metadata(path: str | os.PathLike, metadata: Mapping[str, object], inputs: Iterable = ()) -> str:
+    """Write metadata as JSON, atomically, never over an input; returns the path written."""
+    with atomic_output(path, inputs) as stream:
+        stream.write(json.dumps(_plain(metadata), indent=1, ensure_ascii=False) + "\n")
+    return str(path)

@@ -6,9 +6,11 @@ mutation then gets:
 
 - ``verdict``: ``locked`` when the column is invariant in the family or the label is a listed functional
   site; ``guarded`` when the column is conservative, or the change breaks a structural rule (Pro or Gly
-  inside a helix past its first turn; a charged residue into a hydrophobic column); ``open`` otherwise
+  inside a helix past its first turn; a polar residue into a hydrophobic core column, judged on the
+  Fauchère & Pliška 1983 scale, which counts W, F, Y, M and C as hydrophobic); ``open`` otherwise
   (variable or gap-rich columns, residues outside the family's columns);
-- ``reasons`` in plain words, every rule that fired;
+- ``reasons`` in plain words, every rule that fired, with ``low_data`` when the family (or the column)
+  holds fewer effective sequences than ``min_neff``;
 - ``family_frequency`` (how often the family already has the new residue there, weighted), ``blosum``
   (the substitution score) and ``property_change`` (Kyte & Doolittle 1982 hydropathy, Zamyatnin 1972
   volume, charge).
@@ -40,7 +42,14 @@ from globcons.analysis.family import Family
 from globcons.core.alphabet import N_STANDARD, RESIDUE_LETTERS
 from globcons.core.labels import HELICES, is_helix, place_of, segment_of
 from globcons.core.matrices import matrix_score
-from globcons.core.properties import HYDROPATHY_ARRAY, is_charged, property_change
+from globcons.core.properties import (
+    CORE_HYDROPHOBICITY,
+    HYDROPATHY_ARRAY,
+    HYDROPHOBIC_CORE_MIN,
+    core_hydrophobicity,
+    is_polar,
+    property_change,
+)
 from globcons.core.vocabulary import VERDICTS
 from globcons.errors import OptionError
 from globcons.frame.functional_sites import Site, sites_at
@@ -57,8 +66,6 @@ PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "residue", "frame
 #: A helix residue at this place or later is past the helix's first turn (Pro is common in the first
 #: turn of a helix and rare after it; Richardson & Richardson 1988 Science 240:1648, from memory).
 HELIX_INTERIOR_FROM = 4
-#: A column whose weighted mean Kyte-Doolittle hydropathy is above this is called hydrophobic.
-HYDROPHOBIC_COLUMN = 1.5
 _TIER = {verdict: tier for tier, verdict in enumerate(VERDICTS)}
 #: Weights of the tolerance score of :func:`rank_sites` (see the module notes).
 GAP_WEIGHT, SPREAD_WEIGHT, SITE_PENALTY, HELIX_PG_PENALTY = 0.25, 0.25, 1.0, 0.25
@@ -117,6 +124,25 @@ def _helix_interior(label: str) -> str | None:
     return None
 
 
+def _core_reason(family: Family, column: int, new: str) -> str:
+    """Why a polar residue does not belong in a hydrophobic core column ('' when the rule does not apply)."""
+    core = float(core_hydrophobicity(family.frequencies[column]))
+    if family.classes[column] == "gap-rich" or not core >= HYDROPHOBIC_CORE_MIN or not is_polar(new):
+        return ""
+    return (f"hydrophobic core column (mean hydrophobicity {core:+.2f}, Fauchère & Pliška 1983); {new} is polar "
+            f"({CORE_HYDROPHOBICITY[new]:+.2f})")
+
+
+def _evidence_reason(family: Family, column: int) -> str:
+    """A ``low_data`` reason when the family, or the column, holds few effective sequences."""
+    if family.thin:
+        return (f"low_data: the family has only {family.n_eff:.1f} effective sequences, so its classes rest on "
+                "little evidence")
+    if column >= 0 and family.low_data is not None and family.low_data[column]:
+        return f"low_data: only {family.column_n_eff[column]:.1f} effective sequences hold a residue here"
+    return ""
+
+
 def _column_hydropathy(family: Family, column: int) -> tuple[float, float]:
     """Weighted mean and standard deviation of the hydropathy of the family's residues at a column."""
     frequencies = family.frequencies[column, :N_STANDARD]
@@ -149,12 +175,15 @@ def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]
         frequency = float(family.frequencies[column, RESIDUE_LETTERS.index(new)])
         reasons.append(f"{new} seen in {frequency:.0%} of the family here" if frequency > 0
                        else f"{new} never seen here in the family")
-        mean_hydropathy, _ = _column_hydropathy(family, column)
-        if is_charged(new) and mean_hydropathy > HYDROPHOBIC_COLUMN:
-            reasons.append(f"hydrophobic column (mean hydropathy {mean_hydropathy:+.1f}), new residue charged")
+        core = _core_reason(family, column, new)
+        if core:
+            reasons.append(core)
             verdict = "guarded" if verdict == "open" else verdict
     else:
         reasons.append("not on the family's columns (a residue the family lacks)")
+    evidence = _evidence_reason(family, column)
+    if evidence:
+        reasons.append(evidence)
     helix = _helix_interior(label)
     if helix and new in "PG" and wild != new:
         reasons.append(f"{'Pro' if new == 'P' else 'Gly'} inside helix {helix} ({label}), past its first turn")
@@ -270,6 +299,9 @@ def _position_row(target: Target, given: int, site_list: list[Site]) -> dict[str
         reasons.append("not on the family's columns (a residue the family lacks)")
     if site_list:
         tolerance -= SITE_PENALTY
+    evidence = _evidence_reason(family, column)
+    if evidence:
+        reasons.append(evidence)
     helix = _helix_interior(label)
     if helix and wild in "PG":
         tolerance -= HELIX_PG_PENALTY

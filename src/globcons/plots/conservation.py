@@ -10,6 +10,7 @@ import pandas as pd
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
+from globcons.analysis.columns import SHOWN_SCORES
 from globcons.errors import OptionError
 from globcons.plots.axes import draw_helix_track, position_axis, shade_helices, spread_labels
 from globcons.plots.output import figure_format, finish_figure
@@ -18,16 +19,10 @@ from globcons.plots.palette import CLASS_COLOURS, OKABE_ITO, tinted
 __all__ = ["PROFILE_SCORES", "draw_profile"]
 
 
-#: Scores the profile can show: column -> (transform of the value, y-axis label). entropy_norm is shown
-#: as 1 - entropy_norm so that, like jsd, higher means more conserved.
-PROFILE_SCORES: dict[str, tuple[str, str]] = {
-    "entropy_norm": ("one_minus", "conservation: 1 − entropy / log2 20\n(1 = invariant, 0 = uniform)"),
-    "entropy_bits": ("identity", "Shannon entropy (bits)\nlower = more conserved"),
-    "property_entropy": ("identity", "property-class entropy (bits)\nlower = more conserved"),
-    "jsd": ("identity", "Jensen-Shannon divergence (bits)\nhigher = more conserved"),
-    "gap_fraction": ("identity", "weighted gap fraction"),
-    "n_eff": ("identity", "effective sequences\nwith a residue"),
-}
+#: Scores the profile can show: the table's shown scores (higher = more conserved, gap-aware), each with the
+#: y-axis label that names exactly what is plotted.
+PROFILE_SCORES: dict[str, str] = {name: text.replace(": ", ":\n", 1) if ": " in text else text
+                                  for name, text in SHOWN_SCORES.items()}
 
 
 def _mark_sites(ax, sites_ax, shown: pd.DataFrame, labels: list[str], values: np.ndarray, width: float) -> np.ndarray:
@@ -54,7 +49,7 @@ def _mark_sites(ax, sites_ax, shown: pd.DataFrame, labels: list[str], values: np
     return site_positions
 
 
-def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, score: str = "entropy_norm",
+def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, score: str = "conservation",
                  title: str | None = None, inputs: Iterable = ()) -> Figure:
     """Draw a conservation score along the frame, with the helices, column classes and functional sites.
 
@@ -65,9 +60,8 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
     path
         Write the figure here (format by extension); None: only return it.
     score
-        A key of :data:`PROFILE_SCORES`. ``entropy_norm`` is plotted as ``1 - entropy_norm``
-        ("conservation", 1 = invariant) so that up always means more conserved for it; the others are
-        plotted as they are, with the direction stated on the axis.
+        A key of :data:`PROFILE_SCORES` (default ``conservation``), plotted as it is in the table: every
+        one is higher where a column is more conserved, and gaps lower it.
     title
         Figure title (default: the table's input file).
     inputs
@@ -88,10 +82,8 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
     if shown.empty:
         raise OptionError("the column table is empty: nothing to draw")
     labels = list(shown["frame_label"].astype(str)) if labelled.any() else [""] * len(shown)
-    transform, axis_label = PROFILE_SCORES[score]
+    axis_label = PROFILE_SCORES[score]
     values = shown[score].to_numpy(dtype=np.float64)
-    if transform == "one_minus":
-        values = 1.0 - values
     x = np.arange(len(shown))
     width = float(np.clip(2.5 + 0.075 * len(shown), 7.0, 24.0))
     fig = Figure(figsize=(width, 4.6), layout="constrained")
@@ -113,7 +105,7 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
     site_positions = _mark_sites(ax, sites_ax, shown, labels, values, width)
 
     finite = values[np.isfinite(values)]
-    top = 1.0 if score in ("entropy_norm", "gap_fraction") else (float(finite.max()) if finite.size else 1.0)
+    top = 1.0 if score in ("conservation", "property_conservation") else (float(finite.max()) if finite.size else 1.0)
     ax.set_ylim(min(0.0, float(finite.min()) if finite.size else 0.0) - 0.03 * top, top * 1.05 or 1.0)
     ax.set_xlim(-0.7, len(shown) - 0.3)
     ax.set_ylabel(axis_label, fontsize=9)

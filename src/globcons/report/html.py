@@ -52,7 +52,8 @@ from globcons.report.methods import (
 
 __all__ = ["ReportResult", "write_report"]
 
-_NUMERIC = {"column", "ref_position", "entropy_bits", "entropy_norm", "property_entropy", "jsd", "gap_fraction",
+_NUMERIC = {"column", "ref_position", "support", "conservation", "property_conservation", "entropy_bits",
+            "entropy_norm", "property_entropy", "jsd", "gap_fraction",
             "unknown_fraction", "n_eff"}
 
 

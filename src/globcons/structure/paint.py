@@ -17,11 +17,12 @@ What the B-factor holds
 
 Scores
 ------
-Any numeric score of the column table: ``entropy_norm`` (the default: 0 invariant, 1 maximally
-variable), ``conservation`` (``1 - entropy_norm``: high where conserved, which suits a colour ramp
-from variable to conserved), ``jsd``, ``entropy_bits``, ``property_entropy``, ``gap_fraction`` and
-``n_eff``. PDB output keeps two decimals (values of 1000 or more lose them: use mmCIF for ``n_eff`` of
-very large alignments); mmCIF output keeps full precision.
+The scores the profile shows (:data:`SCORES`, from the column table): ``conservation`` (the default:
+``(1 - entropy / log2 20) x (1 - gap fraction)``, 1 for an invariant, filled column), ``property_conservation``,
+``jsd`` and ``n_eff``; each is higher where a column is more conserved, and gaps lower it, so a colour
+ramp from variable to conserved never paints a gappy column as conserved. PDB output keeps two decimals
+(values of 1000 or more lose them: use mmCIF for ``n_eff`` of very large alignments); mmCIF output keeps
+full precision.
 
 Formats
 -------
@@ -51,6 +52,7 @@ import pandas as pd
 
 from globcons.align.dp import align
 from globcons.align.scoring_profile import query_codes
+from globcons.analysis.columns import SHOWN_SCORES
 from globcons.analysis.family import family_from_alignment
 from globcons.core.alignment import Alignment
 from globcons.errors import InputWarning, OptionError, OutputError
@@ -75,16 +77,8 @@ __all__ = [
 #: B-factor of every atom that carries no score (written ``-1.00`` in PDB). No score is negative.
 SENTINEL = -1.0
 
-#: Scores that can be painted, with what they mean (all are >= 0, or, for ``conservation``, > -0.04).
-SCORES: dict[str, str] = {
-    "entropy_norm": "Shannon entropy over the 20 residues / log2(20): 0 invariant, 1 maximally variable",
-    "conservation": "1 - entropy_norm: 1 invariant, 0 maximally variable",
-    "jsd": "Jensen-Shannon divergence from the background (higher: more conserved)",
-    "entropy_bits": "Shannon entropy over the 20 residues, in bits",
-    "property_entropy": "Shannon entropy over the reduced property alphabet, in bits",
-    "gap_fraction": "weighted fraction of sequences with a gap in the column",
-    "n_eff": "effective number of sequences with a residue in the column",
-}
+#: Scores that can be painted: the same as the profile's (higher = more conserved, gaps lower them).
+SCORES: dict[str, str] = dict(SHOWN_SCORES)
 
 #: Output formats by extension.
 STRUCTURE_FORMATS: dict[str, str] = {".pdb": "pdb", ".ent": "pdb", ".cif": "mmcif", ".mmcif": "mmcif"}
@@ -216,8 +210,6 @@ def score_values(table: pd.DataFrame, score: str) -> np.ndarray:
     """
     if score not in SCORES:
         raise OptionError(f"unknown score {score!r}; choose one of {', '.join(SCORES)}")
-    if score == "conservation":
-        return 1.0 - table["entropy_norm"].to_numpy(dtype=np.float64)
     if score not in table.columns:
         raise OptionError(f"the column table has no {score!r} column")
     return table[score].to_numpy(dtype=np.float64)
@@ -370,7 +362,7 @@ def _write_cif_dict(text: str, values: dict[tuple, float], sentinel: float, stre
 
 
 def paint_structure(structure_path: str | os.PathLike, alignment: Alignment, table: pd.DataFrame,
-                    out_path: str | os.PathLike, chain: str | None = None, score: str = "entropy_norm",
+                    out_path: str | os.PathLike, chain: str | None = None, score: str = "conservation",
                     unmapped: float = SENTINEL, inputs: Iterable = (),
                     out_format: str | None = None) -> PaintResult:
     """Write a column score into the B-factors of a structure's chain.
@@ -389,7 +381,7 @@ def paint_structure(structure_path: str | os.PathLike, alignment: Alignment, tab
     chain
         The chain to paint (default: the first chain, in file order, with protein residues).
     score
-        One of :data:`SCORES` (default ``entropy_norm``; ``conservation`` is ``1 - entropy_norm``).
+        One of :data:`SCORES` (default ``conservation``).
     unmapped
         The B-factor of every atom that carries no score (default :data:`SENTINEL`, ``-1.0``): residues
         not placed on a column or placed on a column without a score (NaN), other chains, waters and
