@@ -81,7 +81,8 @@ def command(path: Path, out: Path, *extra: str) -> tuple[float, float]:
 
 FLOOR = """
 import numpy as np
-from globcons.io.readers import read_input_bytes, parse_alignment
+from globcons.io.opening import read_input_bytes
+from globcons.io.alignments import parse_alignment
 from globcons.core.alphabet import N_CODES
 data, name = read_input_bytes({path!r})
 codes = parse_alignment(data, name).codes

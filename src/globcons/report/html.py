@@ -80,10 +80,13 @@ def _options_list(table: pd.DataFrame, alignment: Alignment) -> list[tuple[str, 
     frame = meta.get("frame") or {}
     return [
         ("input", f"{meta['input']} ({meta['format']})"),
-        ("weights", meta["weights"] + (f" (identity {meta['identity']})" if meta["identity"] else "")),
+        ("frequency weights", meta["weights"]),
+        ("effective sequences", f"{meta['effective_sequences']:.1f}: {meta['effective_sequences_method']}"),
         ("gap-rich above", f"{rules['max_gaps']:g}"),
-        ("invariant from", f"{rules['invariant_min']:g}"),
-        ("conservative groups", meta["grouping"] + f" (share {rules['group_min']:g})"),
+        ("invariant", f"one residue holds {rules['invariant_min']:g} with probability {rules['confidence']:g}"),
+        ("conservative", f"one group holds {rules['group_min']:g} with probability {rules['confidence']:g}; "
+                         + meta["grouping"]),
+        ("prior", f"Dirichlet, weight {rules['prior_weight']:g}, BLOSUM62 background"),
         ("low-data below", f"{rules['min_neff']:g} effective sequences"),
         ("JSD window", str(meta["window"])),
         ("frame", frame.get("note") or "not tied"),

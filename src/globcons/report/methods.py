@@ -22,9 +22,13 @@ def citations(meta: dict) -> list[str]:
              "nucleotide sequences. J Mol Biol 188:415-431."]
     if meta["weights"] == "henikoff":
         cited.append("Henikoff S, Henikoff JG (1994) Position-based sequence weights. J Mol Biol 243:574-578.")
-    if meta["weights"] == "cluster":
-        cited.append("Morcos F et al. (2011) Direct-coupling analysis of residue coevolution captures native "
-                     "contacts across many protein families. PNAS 108:E1293-E1301.")
+    cited.append("Morcos F et al. (2011) Direct-coupling analysis of residue coevolution captures native "
+                 "contacts across many protein families. PNAS 108:E1293-E1301.")
+    cited.append("Gelman A, Carlin JB, Stern HS, Dunson DB, Vehtari A, Rubin DB (2013) Bayesian Data Analysis, "
+                 "3rd edn. CRC Press (the Dirichlet-multinomial update, chapter 3).")
+    if meta.get("class_counts", {}).get("gap-rich", 0):
+        cited.append("Jeffreys H (1946) An invariant form for the prior probability in estimation problems. "
+                     "Proc R Soc Lond A 186:453-461 (the prior of the gap share behind a gap-rich support).")
     if meta.get("frame", {}).get("source") == "anchor":
         cited += ["Gribskov M, McLachlan AD, Eisenberg D (1987) Profile analysis: detection of distantly related "
                   "proteins. PNAS 84:4355-4358.",
@@ -61,21 +65,37 @@ def methods_text(table: pd.DataFrame) -> str:
                    "1982) with helix-dependent gap costs; its significance came from shuffled copies (Karlin and "
                    f"Altschul 1990; E-value {_evalue(frame):.1e})."),
     }.get(frame.get("source"), "Columns were not tied to the globin helix frame.")
+    method = meta.get("effective_sequences_method", "")
+    sampled = "sampled" in method
     text = (
         f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of "
-        f"{Path(meta['input']).name} "
-        f"was computed with globcons {meta['version']}, using {weighting} "
-        f"({meta['effective_sequences']:.1f} effective sequences). For each column, the weighted Shannon entropy "
-        "over the 20 standard residues (Shannon 1948; gaps and unknown residues excluded), the entropy over six "
-        "property classes (Mirny and Shakhnovich 1999) and the Jensen-Shannon divergence from the BLOSUM62 "
-        "background distribution, multiplied by the fraction of non-gap weight (Capra and Singh 2007"
-        + (f", smoothed over {meta['window']} neighbouring columns on each side" if meta["window"] else "")
-        + "), were computed. "
-        f"Columns with a weighted gap fraction above {rules['max_gaps']:g} were classed gap-rich; columns in which "
-        f"one residue carried at least {rules['invariant_min']:g} of the residue weight, invariant; columns whose "
-        f"most frequent residues carrying {rules['group_min']:g} of the weight formed one substitution group under "
-        f"{grouping}, conservative; and the rest, variable. Columns with fewer than {rules['min_neff']:g} "
-        "effective sequences were flagged as low-data. "
+        f"{Path(meta['input']).name} was computed with globcons {meta['version']}. Residue frequencies used "
+        f"{weighting}. The effective number of sequences counted sequence clusters: each sequence weighed one "
+        f"over the number of sequences at least {meta['identity']:.0%} identical to it over all columns (Morcos "
+        "et al. 2011"
+        + (", estimated by comparing every sequence with a fixed sample of the others" if sampled else "")
+        + f"), {meta['effective_sequences']:.1f} in all; a column's effective number was the summed weight of "
+        "the sequences holding a residue in it. For each column, the weighted Shannon entropy over the 20 "
+        "standard residues (Shannon 1948; gaps and unknown residues excluded), the entropy over six property "
+        "classes (Mirny and Shakhnovich 1999) and the Jensen-Shannon divergence from the BLOSUM62 background "
+        "distribution were computed; conservation was one minus the normalised entropy, and every conservation "
+        "score was multiplied by the fraction of non-gap weight (Capra and Singh 2007"
+        + (f"; the divergence smoothed over {meta['window']} neighbouring columns on each side" if meta["window"]
+           else "")
+        + "). "
+        f"Columns with a weighted gap fraction above {rules['max_gaps']:g} were classed gap-rich. The other classes "
+        "came from the posterior distribution of a column's residue shares: a Dirichlet prior of total weight "
+        f"{rules['prior_weight']:g} spread by the BLOSUM62 background frequencies, updated by the column's "
+        "frequencies times its effective number of sequences (the conjugate update; Gelman et al. 2013), so that "
+        "the share of any set of residues is Beta distributed. A column was invariant when the posterior "
+        f"probability that its most frequent residue holds at least {rules['invariant_min']:g} of the column was "
+        f"at least {rules['confidence']:g}; conservative when the same held for a share of {rules['group_min']:g} "
+        f"of its substitution group, built greedily from the most frequent residue down under {grouping}; and "
+        "variable otherwise. That probability is reported as the column's support. Columns with fewer than "
+        f"{rules['min_neff']:g} effective sequences were flagged as low-data"
+        + (f", and the family as a whole held fewer than {rules['min_neff']:g} effective sequences, so its "
+           "classes rest on little evidence" if meta.get("thin_family") else "")
+        + ". "
         + frame_sentence
         + " Sequence logos show information in bits with the small-sample correction of Schneider et al. (1986)."
     )
