@@ -22,9 +22,10 @@ from globcons.core.classes import ClassRules, column_statistics
 from globcons.core.counts import column_counts
 from globcons.core.labels import is_helix, segment_of
 from globcons.core.matrices import DEFAULT_MATRIX
+from globcons.core.neighbours import neighbour_counts
 from globcons.core.properties import core_hydrophobicity
 from globcons.core.scores import residue_strings
-from globcons.core.weights import compute_weights, neighbour_counts
+from globcons.core.weights import compute_weights
 
 __all__ = ["Family", "frame_family", "family_from_alignment"]
 

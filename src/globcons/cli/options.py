@@ -16,7 +16,8 @@ import click
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alphabet import RESIDUE_GROUPS
 from globcons.core.classes import ClassRules
-from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, SCHEMES
+from globcons.core.neighbours import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, NEFF_QUERY_ROWS
+from globcons.core.weights import SCHEMES
 from globcons.io.formats import FORMATS, TABLE_FORMATS
 
 if TYPE_CHECKING:
@@ -72,6 +73,9 @@ def scoring_options(command: F) -> F:
         click.option("--neff-exact-rows", type=click.IntRange(0, None), default=NEFF_EXACT_MAX_ROWS,
                      show_default=True,
                      help="Up to this many rows the clusters compare every pair; above, a fixed sample."),
+        click.option("--neff-sample", type=click.IntRange(2, None), default=NEFF_QUERY_ROWS, show_default=True,
+                     help="Above --neff-exact-rows: sampled rows, each compared with every row, behind the "
+                          "estimated effective number (its standard error is reported)."),
         click.option("--matrix", default=_RULES["matrix"], show_default=True,
                      help="Substitution matrix (any Biopython ships) judging conservative groups."),
         click.option("--residue-groups", type=click.Choice(RESIDUE_GROUP_NAMES), default=None,
@@ -128,6 +132,7 @@ def score_options(kw: Mapping[str, Any]) -> ScoreOptions:
                        confidence=kw["confidence"], prior_weight=kw["prior_weight"], matrix=kw["matrix"],
                        residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
     return ScoreOptions(weights=kw["weights"], identity=kw["identity"], neff_exact_rows=kw["neff_exact_rows"],
+                        neff_sample=kw["neff_sample"],
                         window=kw["window"], rules=rules,
                         reference=kw.get("reference"), frame=not kw.get("no_frame", False),
                         sites_path=kw.get("sites_path"), replace_sites=kw.get("replace_sites", False))

@@ -24,6 +24,8 @@ PROTEIN_SAMPLE = 4_000_000
 
 def unique_ids(ids: list[str], name: str) -> list[str]:
     """``ids`` with repeats made unique (``id_2``, ``id_3``...), with one warning saying how many and the first."""
+    if len(set(ids)) == len(ids):
+        return list(ids)
     seen: dict[str, int] = {}
     taken = set(ids)
     result = []
