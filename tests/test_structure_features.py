@@ -39,6 +39,7 @@ from globcons.frame.reference import reference_chain
 from globcons.io.alignments import read_alignment
 from globcons.mutations.judge import check, rank_sites
 from globcons.mutations.target import prepare_target
+from globcons.report.html import write_report
 from globcons.structure.context import add_structure_columns, load_features, target_context
 from globcons.structure.features import (
     CORE_BELOW,
@@ -357,6 +358,16 @@ def test_column_table_and_painting_use_the_same_mapping(tmp_path):
     paint_structure(HHB, aligned, table, tmp_path / "painted.pdb", chain="B", score="n_eff")
     named = {row: name for row, name in enumerate(combined["structure_residue"]) if name}
     assert {columns[j] - 1: f"B:{chain_b.residues[j]}" for j in np.flatnonzero(columns > 0)} == named
+
+
+def test_report_carries_the_structural_columns(tmp_path):
+    result = write_report(demo_alignment_path(), tmp_path / "report", logos=False, structure=HHB, chain="B")
+    rows = list(csv.DictReader((tmp_path / "report" / "columns.tsv").open(), delimiter="\t"))
+    f8 = next(row for row in rows if row["frame_label"] == "F8")
+    assert (f8["structure_residue"], f8["burial"], f8["heme_contact"]) == ("B:His92", "core", "yes")
+    methods = (tmp_path / "report" / "methods.md").read_text()
+    assert "Shrake-Rupley" in methods and "Tien MZ" in methods and f"{HEME_CONTACT_DISTANCE:g} A" in methods
+    assert "B:His92" in result.html.read_text() and "chain B" in result.structure_note
 
 
 def test_plan_command_surface_only(tmp_path, capsys):

@@ -47,6 +47,7 @@ def check(target_path: str | None, mutation_list: str | None, mutations_file: st
 
     if not mutation_list and not mutations_file:
         raise click.UsageError("give --mutations LIST or --mutations-file FILE")
+    _check_structure_options(structure_path, chain_id)
     inputs = [target_path, family_path, mutations_file, structure_path]
     if output is not None:
         check_not_input(output, inputs)
@@ -90,6 +91,7 @@ def plan(target_path: str | None, family_path: str | None, target_id: str | None
 
     if structure_path is None and (surface_only or exclude_interfaces):
         raise OptionError(f"{'--surface-only' if surface_only else '--exclude-interfaces'} needs --structure FILE")
+    _check_structure_options(structure_path, chain_id)
     inputs = [target_path, family_path, structure_path]
     if output is not None:
         check_not_input(output, inputs)
@@ -116,12 +118,25 @@ def _metadata(target: Target, numbering: str, context: StructureContext | None =
     return {**meta, **context.metadata()} if context is not None else meta
 
 
+def _check_structure_options(structure_path: str | None, chain_id: str | None) -> None:
+    """--chain only with --structure; a structure that is not there is named before anything is read."""
+    from globcons.io.opening import InputSource
+
+    if structure_path is None:
+        if chain_id is not None:
+            raise click.UsageError("--chain needs --structure FILE")
+        return
+    source = InputSource(structure_path)
+    if source.path is not None and not source.path.exists():
+        from globcons.errors import InputError
+
+        raise InputError("no such file", source=source.name)
+
+
 def _structure_context(target: Target, structure_path: str | None, chain_id: str | None,
                        reporter: Reporter) -> StructureContext | None:
     """The structure's per-residue features carried over to the target (None without --structure)."""
     if structure_path is None:
-        if chain_id is not None:
-            raise click.UsageError("--chain needs --structure FILE")
         return None
     from globcons.structure.context import target_context
 

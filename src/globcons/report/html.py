@@ -57,7 +57,7 @@ __all__ = ["ReportResult", "write_report"]
 
 _NUMERIC = {"column", "ref_position", "support", "conservation", "property_conservation", "entropy_bits",
             "entropy_norm", "property_entropy", "jsd", "gap_fraction",
-            "unknown_fraction", "n_eff"}
+            "unknown_fraction", "n_eff", "rsa", "iron_distance"}
 
 
 @dataclass(frozen=True)

@@ -148,10 +148,10 @@ STRUCTURE_CITATIONS = [
 def structure_methods_text(meta: dict) -> str:
     """The methods sentences of the structural columns, from the ``structure`` metadata of a column table."""
     return (
-        f"Chain {meta['chain']} of {Path(str(meta['file'])).name} was placed on the alignment's columns by the same "
-        f"profile alignment ({meta['mapped']} of its {meta['residues']} residues placed). On the first model, "
-        "waters and hydrogens left out, the solvent-accessible surface of each residue was computed by the "
-        f"Shrake-Rupley method (Shrake and Rupley 1973; probe {meta['probe_radius']:g} A, "
+        f"Chain {meta['chain']} of {Path(str(meta['file'])).name} was placed on the alignment's columns by aligning "
+        f"its sequence to the family profile ({meta['mapped']} of its {meta['residues']} residues placed). On the "
+        "first model, waters and hydrogens left out, the solvent-accessible surface of each residue was computed "
+        f"by the Shrake-Rupley method (Shrake and Rupley 1973; probe {meta['probe_radius']:g} A, "
         f"{meta['sphere_points']} points per atom; Biopython, Cock et al. 2009) and divided by the theoretical "
         "maximum accessibility of its residue type (Tien et al. 2013). Residues below "
         f"{meta['core_below']:g} were classed core, from {meta['surface_from']:g} surface and boundary between "

@@ -266,6 +266,8 @@ def _compute(loaded: StructureFile) -> StructureFeatures:
     clean = _clean_model(model)
     protein = {chain.id: residues for chain in clean if (residues := chain_residues(clean, chain.id))
                and any(letter != "X" for _, letter in residues)}
+    if not protein:
+        raise InputError("has no protein chain in its first model", source=loaded.name)
     bases, total = {}, 0
     for chain_id, residues in protein.items():
         bases[chain_id] = total
@@ -335,8 +337,6 @@ def structure_features(loaded: StructureFile) -> StructureFeatures:
     if cached is not None and cached[0] is loaded:
         return cached[1]
     features = _compute(loaded)
-    if not features.chains:
-        raise InputError("has no protein chain in its first model", source=loaded.name)
     _CACHE.clear()  # one structure at a time: a run reads one
     _CACHE[id(loaded)] = (loaded, features)
     return features
