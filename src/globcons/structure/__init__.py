@@ -7,6 +7,7 @@ _EXPORTS = {
     "SENTINEL": "globcons.structure.paint",
     "paint_structure": "globcons.structure.paint",
     "read_structure": "globcons.structure.read",
+    "load_structure": "globcons.structure.read",
     "chain_residues": "globcons.structure.read",
     "structure_features": "globcons.structure.features",
     "StructureFeatures": "globcons.structure.features",
