@@ -412,3 +412,18 @@ def test_plan_command_refuses_bad_chains(tmp_path, capsys, args, message):
     assert main(["plan", str(target), "--structure", str(structure), *args]) == 2
     errors = [line for line in capsys.readouterr().err.splitlines() if "error" in line.lower()]
     assert len(errors) == 1 and message in errors[0] and "cut.pdb" in errors[0]
+
+
+def test_plan_measures_the_structure_once(monkeypatch, capsys):
+    # the chain is both the target and the context: Shrake-Rupley (Biopython's) must still run once
+    calls = []
+    original = ShrakeRupley.compute
+
+    def counted(self, entity, level="A"):
+        calls.append(level)
+        return original(self, entity, level)
+
+    monkeypatch.setattr(ShrakeRupley, "compute", counted)
+    assert main(["plan", "--structure", str(HHB), "--chain", "D", "--top", "3"]) == 0
+    assert len(calls) == 1
+    assert "chain D: 146 of 146" in capsys.readouterr().err

@@ -18,6 +18,7 @@ if TYPE_CHECKING:
 
     from globcons.mutations.context import StructureContext
     from globcons.mutations.target import Target
+    from globcons.structure.features import StructureFeatures
 
 __all__ = ["check", "plan"]
 
@@ -47,14 +48,14 @@ def check(target_path: str | None, mutation_list: str | None, mutations_file: st
 
     if not mutation_list and not mutations_file:
         raise click.UsageError("give --mutations LIST or --mutations-file FILE")
-    _check_structure_options(structure_path, chain_id)
+    features = _structure_features(structure_path, chain_id)
     inputs = [target_path, family_path, mutations_file, structure_path]
     if output is not None:
         check_not_input(output, inputs)
     mutations = (parse_mutation_list(mutation_list) if mutation_list else []) + \
         (read_mutation_file(mutations_file) if mutations_file else [])
-    target = _load_target(target_path, target_id, family_path, numbering, reporter, structure_path, chain_id)
-    context = _structure_context(target, structure_path, chain_id, reporter)
+    target = _load_target(target_path, target_id, family_path, numbering, reporter, features, chain_id)
+    context = _structure_context(target, features, chain_id, reporter)
     table = check_mutations(target, mutations, context=context)
     counts = table["verdict"].value_counts().to_dict()
     _write_with_caution(table, output, table_format, inputs, _metadata(target, numbering, context), reporter)
@@ -91,12 +92,12 @@ def plan(target_path: str | None, family_path: str | None, target_id: str | None
 
     if structure_path is None and (surface_only or exclude_interfaces):
         raise OptionError(f"{'--surface-only' if surface_only else '--exclude-interfaces'} needs --structure FILE")
-    _check_structure_options(structure_path, chain_id)
+    features = _structure_features(structure_path, chain_id)
     inputs = [target_path, family_path, structure_path]
     if output is not None:
         check_not_input(output, inputs)
-    target = _load_target(target_path, target_id, family_path, numbering, reporter, structure_path, chain_id)
-    context = _structure_context(target, structure_path, chain_id, reporter)
+    target = _load_target(target_path, target_id, family_path, numbering, reporter, features, chain_id)
+    context = _structure_context(target, features, chain_id, reporter)
     table = rank_sites(target, exclude_labels=_split(exclude_labels), exclude_helices=_split(exclude_helices),
                        exclude_kinds=_split(exclude_kinds), top=top, context=context, surface_only=surface_only,
                        exclude_interfaces=exclude_interfaces)
@@ -118,49 +119,53 @@ def _metadata(target: Target, numbering: str, context: StructureContext | None =
     return {**meta, **context.metadata()} if context is not None else meta
 
 
-def _check_structure_options(structure_path: str | None, chain_id: str | None) -> None:
-    """--chain only with --structure; a structure that is not there is named before anything is read."""
+def _structure_features(structure_path: str | None, chain_id: str | None) -> StructureFeatures | None:
+    """The structure measured once (None without --structure), before the target and family are read.
+
+    --chain needs --structure; a file that is not there is named as such.
+    """
+    from globcons.errors import InputError
     from globcons.io.opening import InputSource
 
     if structure_path is None:
         if chain_id is not None:
             raise click.UsageError("--chain needs --structure FILE")
-        return
+        return None
     source = InputSource(structure_path)
     if source.path is not None and not source.path.exists():
-        from globcons.errors import InputError
-
         raise InputError("no such file", source=source.name)
+    from globcons.structure.context import load_features
+
+    return load_features(structure_path)
 
 
-def _structure_context(target: Target, structure_path: str | None, chain_id: str | None,
+def _structure_context(target: Target, features: StructureFeatures | None, chain_id: str | None,
                        reporter: Reporter) -> StructureContext | None:
     """The structure's per-residue features carried over to the target (None without --structure)."""
-    if structure_path is None:
+    if features is None:
         return None
     from globcons.structure.context import target_context
 
-    context = target_context(target, structure_path, chain_id)
+    context = target_context(target, features, chain_id)
     reporter.info(context.describe())
     return context
 
 
-def _structure_target(structure_path: str, chain_id: str | None, family, numbering: str) -> Target:
+def _structure_target(features: StructureFeatures, chain_id: str | None, family, numbering: str) -> Target:
     """The target read from a chain of the structure (its residues with coordinates)."""
     from pathlib import Path
 
     from globcons.mutations.target import prepare_target
-    from globcons.structure.context import load_features
 
     if chain_id is None:
         raise click.UsageError("without TARGET, give --chain ID: the chain of --structure that is the target")
-    chain = load_features(structure_path).chain(chain_id)
-    name = Path(structure_path).name.split(".")[0]
+    chain = features.chain(chain_id)
+    name = Path(features.source).name.split(".")[0]
     return prepare_target(chain.sequence, f"{name}:{chain_id}", family, numbering)
 
 
 def _load_target(target_path: str | None, target_id: str | None, family_path: str | None, numbering: str,
-                 reporter: Reporter, structure_path: str | None = None, chain_id: str | None = None) -> Target:
+                 reporter: Reporter, features: StructureFeatures | None = None, chain_id: str | None = None) -> Target:
     """The target and the family, from TARGET / --target / --family (or a chain of --structure)."""
     import numpy as np
 
@@ -180,8 +185,8 @@ def _load_target(target_path: str | None, target_id: str | None, family_path: st
         reporter.info(f"family: {aligned.n_rows} sequences, {aligned.n_columns} columns; {mapping.note}")
     if family.thin:
         reporter.warn(family.describe())
-    if target_path is None and structure_path is not None and target_id is None:
-        return _structure_target(structure_path, chain_id, family, numbering)
+    if target_path is None and features is not None and target_id is None:
+        return _structure_target(features, chain_id, family, numbering)
     if target_path is None:
         if aligned is None or target_id is None:
             raise click.UsageError("give a TARGET file, --target ID naming a row of --family, or --structure FILE "
