@@ -312,6 +312,19 @@ def test_insertion_codes_name_the_residue(beta_target, tmp_path):
     assert context.cells(54)["structure_residue"] == "B:Ala52A"  # given 54 = mature 53
 
 
+def test_hydrogens_are_left_out(features, tmp_path):
+    # an NMR-style copy: every heavy atom of beta Glu6 and Lys8 gets a hydrogen 1 A away
+    def with_hydrogens(line: str) -> list[str]:
+        name = f"H{line[13:16].strip()}"[:4]
+        moved = f"{float(line[30:38]) + 1.0:8.3f}"
+        return [line, line[:12] + f"{name:<4}" + line[16:30] + moved + line[38:76] + " H"]
+
+    text = _edit(_edit(hhb_text(), "B", 6, with_hydrogens), "B", 8, with_hydrogens)
+    measured = load_features(write(tmp_path, "hydrogens.pdb", text)).chain("B")
+    assert sum(line[76:78] == " H" for line in text.splitlines()) == 18
+    np.testing.assert_allclose(measured.rsa, features.chain("B").rsa, atol=1e-9)
+
+
 def test_waters_are_left_out(features, tmp_path):
     dry = "\n".join(line for line in hhb_text().splitlines() if "HOH" not in line) + "\n"
     measured = load_features(write(tmp_path, "dry.pdb", dry))
@@ -385,6 +398,20 @@ def test_plan_command_surface_only(tmp_path, capsys):
                  str(tmp_path / "plan.json")]) == 0
     meta = json.loads((tmp_path / "plan.json").read_text())["metadata"]
     assert meta["structure_chain"] == "B" and meta["core_below"] == CORE_BELOW and meta["structure_mapped"] == 146
+
+
+def test_plan_command_reads_gzip_mmcif(tmp_path, capsys):
+    structure = PDBParser(QUIET=True).get_structure("hhb", io.StringIO(hhb_text()))
+    writer = MMCIFIO()
+    writer.set_structure(structure)
+    text = io.StringIO()
+    writer.save(text)
+    path = tmp_path / "hhb.cif.gz"
+    path.write_bytes(gzip.compress(text.getvalue().encode("ascii")))
+    assert main(["plan", "--structure", str(path), "--chain", "B", "--exclude-interfaces", "--top", "5"]) == 0
+    captured = capsys.readouterr()
+    rows = list(csv.DictReader(io.StringIO(captured.out), delimiter="\t"))
+    assert len(rows) == 5 and {r["interface"] for r in rows} == {""}
 
 
 def test_check_command_with_a_target_file(tmp_path, capsys):
