@@ -5,6 +5,7 @@ is placed on the family's columns exactly as a target, a scanned sequence or a p
 target residue takes the features of the chain residue on its column. Residues that sit between the
 family's columns (insertions) or fall on a column the chain does not fill (a missing or disordered stretch
 of the structure) stay unmapped, and count against the coverage: below :data:`MIN_COVERAGE` the run stops.
+An initiator Met that maps to no chain residue (the structure is of the mature chain) is not counted.
 """
 
 from __future__ import annotations
@@ -42,9 +43,8 @@ def _chain_on_target(target: Target, chain: ChainFeatures) -> tuple[np.ndarray, 
     residue_of_column[chain_columns[placed]] = placed
     columns = np.asarray(target.columns, dtype=np.int64)
     on_target = np.where(columns >= 0, residue_of_column[np.clip(columns, 0, None)], -1)
-    if target.starts_with_met:
-        on_target[0] = -1  # the initiator Met is not part of the mature chain
-    counted = len(target.sequence) - (1 if target.starts_with_met else 0)
+    # an initiator Met the chain lacks (the mature chain) is not counted against the coverage
+    counted = len(target.sequence) - (1 if target.starts_with_met and on_target[0] < 0 else 0)
     mapped = np.flatnonzero(on_target >= 0)
     target_letters = np.frombuffer(target.sequence.encode("ascii"), dtype=np.uint8)
     chain_letters = np.frombuffer(chain.sequence.upper().encode("ascii"), dtype=np.uint8)
