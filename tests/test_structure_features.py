@@ -454,3 +454,9 @@ def test_plan_measures_the_structure_once(monkeypatch, capsys):
     assert main(["plan", "--structure", str(HHB), "--chain", "D", "--top", "3"]) == 0
     assert len(calls) == 1
     assert "chain D: 146 of 146" in capsys.readouterr().err
+
+
+def test_a_context_of_another_target_is_refused(beta_context):
+    alpha = prepare_target(ALPHA.full_sequence, "alpha", numbering="mature")
+    with pytest.raises(ValueError, match="structure context has 147 residues, the target 142"):
+        rank_sites(alpha, context=beta_context)
