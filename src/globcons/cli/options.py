@@ -31,6 +31,7 @@ __all__ = [
     "score_options",
     "scoring_options",
     "shuffles_option",
+    "structure_options",
     "target_options",
 ]
 
@@ -157,6 +158,17 @@ def target_options(command: F) -> F:
         click.option("-o", "--output", default=None, help="Output table (default: standard output)."),
         click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
                      help="Table format (default: from the extension, else tsv)."),
+    ])
+
+
+def structure_options(command: F) -> F:
+    """--structure and --chain: a PDB or mmCIF file whose coordinates add burial, heme contacts and interfaces."""
+    return _apply(command, [
+        click.option("--structure", "structure_path", type=click.Path(dir_okay=True), default=None,
+                     help="PDB or mmCIF file (gzip too): adds accessibility, burial, heme contacts and chain "
+                          "interfaces from its first model."),
+        click.option("--chain", "chain_id", default=None,
+                     help="The target's chain in --structure (the others are its partners)."),
     ])
 
 
