@@ -25,6 +25,9 @@ def citations(meta: dict) -> list[str]:
         cited.append("Henikoff S, Henikoff JG (1994) Position-based sequence weights. J Mol Biol 243:574-578.")
     cited.append("Morcos F et al. (2011) Direct-coupling analysis of residue coevolution captures native "
                  "contacts across many protein families. PNAS 108:E1293-E1301.")
+    if meta.get("effective_sequences_error"):
+        cited.append("Cochran WG (1977) Sampling Techniques, 3rd edn. Wiley, New York (simple random sampling, "
+                     "chapter 2: the estimated effective number and its standard error).")
     cited.append("Gelman A, Carlin JB, Stern HS, Dunson DB, Vehtari A, Rubin DB (2013) Bayesian Data Analysis, "
                  "3rd edn. CRC Press (the Dirichlet-multinomial update, chapter 3).")
     if meta.get("class_counts", {}).get("gap-rich", 0):
@@ -68,13 +71,16 @@ def methods_text(table: pd.DataFrame) -> str:
     }.get(frame.get("source"), "Columns were not tied to the globin helix frame.")
     method = meta.get("effective_sequences_method", "")
     sampled = "sampled" in method
+    error = meta.get("effective_sequences_error")
     text = (
         f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of "
         f"{Path(meta['input']).name} was computed with globcons {meta['version']}. Residue frequencies used "
         f"{weighting}. The effective number of sequences counted sequence clusters: each sequence weighed one "
         f"over the number of sequences at least {meta['identity']:.0%} identical to it over all columns (Morcos "
         "et al. 2011"
-        + (", estimated by comparing every sequence with a fixed sample of the others" if sampled else "")
+        + ((f", estimated from {meta.get('neff_sample', 0):g} randomly sampled sequences each compared with all "
+            f"(standard error {error:.1f}; Cochran 1977)" if error else
+            ", estimated by comparing every sequence with a fixed sample of the others") if sampled else "")
         + f"), {meta['effective_sequences']:.1f} in all; a column's effective number was the summed weight of "
         "the sequences holding a residue in it. For each column, the weighted Shannon entropy over the 20 "
         "standard residues (Shannon 1948; gaps and unknown residues excluded), the entropy over six property "
