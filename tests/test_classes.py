@@ -208,3 +208,19 @@ def test_the_incomplete_beta_agrees_with_scipy_over_a_wide_grid():
     np.testing.assert_allclose(regularized_incomplete_beta(1.0, 1.0, [0.0, 0.3, 1.0]), [0.0, 0.3, 1.0])
     np.testing.assert_allclose(regularized_incomplete_beta(3.0, 1.0, 0.8), 0.8 ** 3)
     np.testing.assert_allclose(regularized_incomplete_beta([2.5, 40.0, 3e5], [2.5, 40.0, 3e5], 0.5), 0.5)
+
+
+def test_matrices_read_from_biopythons_files_equal_biopythons_own():
+    # Reference: Bio.Align.substitution_matrices.load, for every matrix Biopython ships.
+    from globcons.core.matrices import load_matrix, shipped_matrices
+
+    assert list(shipped_matrices()) == sorted(substitution_matrices.load())
+    for name in shipped_matrices():
+        theirs = substitution_matrices.load(name)
+        try:
+            ours = load_matrix(name)
+        except OptionError:
+            assert not set(STANDARD) <= set(theirs.alphabet)  # refused only when not a protein matrix
+            continue
+        assert ours.alphabet == "".join(theirs.alphabet)
+        assert all(ours[a][b] == theirs[a][b] for a in ours.alphabet for b in ours.alphabet)
