@@ -7,7 +7,14 @@ from typing import TYPE_CHECKING, Any
 
 import click
 
-from globcons.cli.options import alignment_argument, frame_options, reader_options, score_options, scoring_options
+from globcons.cli.options import (
+    alignment_argument,
+    column_limit,
+    frame_options,
+    reader_options,
+    score_options,
+    scoring_options,
+)
 from globcons.cli.reporting import Reporter, common, warn_low_data
 from globcons.io.formats import TABLE_FORMATS
 
@@ -33,7 +40,7 @@ __all__ = ["columns"]
 @scoring_options
 @common
 def columns(alignment: str, output: str | None, table_format: str | None, fmt: str | None, keep_inserts: bool,
-            chunk_rows: int | None, reporter: Reporter, **kw: Any) -> None:
+            max_columns: int | None, chunk_rows: int | None, reporter: Reporter, **kw: Any) -> None:
     """Score and class every column of ALIGNMENT ('-' reads standard input).
 
     One row per column: class (invariant, conservative, variable, gap-rich), entropy, JSD, gap
@@ -46,7 +53,7 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
     options = score_options(kw)
     if output is not None:
         check_not_input(output, [alignment, kw.get("sites_path")])
-    table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter)
+    table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter, column_limit(max_columns))
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
                           caption=f"Column conservation of {os.path.basename(str(alignment))}")
     reporter.info(summarise(table))
@@ -56,7 +63,7 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
 
 
 def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_inserts: bool,
-                 chunk_rows: int | None, reporter: Reporter) -> pd.DataFrame:
+                 chunk_rows: int | None, reporter: Reporter, max_columns: int | None = None) -> pd.DataFrame:
     """The column table, read in memory or streamed (see :func:`globcons.analysis.streaming.plan_reading`).
 
     Parameters
@@ -71,6 +78,8 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
         ``--chunk-rows``: stream in chunks of this many records; None lets the plan decide.
     reporter
         Told why the file is streamed, when it is.
+    max_columns
+        Refuse a wider alignment (``--max-columns``).
 
     Returns
     -------
@@ -79,6 +88,7 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
     """
     from globcons.analysis.columns import score_columns, table_from_summary
     from globcons.analysis.streaming import plan_reading, summarise_file
+    from globcons.errors import InputError
     from globcons.io.alignments import read_alignment
 
     plan = plan_reading(alignment, options.weights, keep_inserts, chunk_rows, fmt)
@@ -86,5 +96,9 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
         reporter.info(plan.note)
     if plan.stream:
         summary = summarise_file(alignment, options, plan.chunk_rows, fmt, keep_inserts)
+        if max_columns is not None and summary.n_columns > max_columns:
+            raise InputError(f"{summary.n_columns} columns, more than the {max_columns} this command takes "
+                             f"(--max-columns); give --max-columns {summary.n_columns} to go on", source=alignment)
         return table_from_summary(summary, options)
-    return score_columns(read_alignment(alignment, format=fmt, keep_inserts=keep_inserts), options)
+    return score_columns(read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns),
+                         options)

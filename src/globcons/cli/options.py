@@ -17,13 +17,16 @@ from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alphabet import RESIDUE_GROUPS
 from globcons.core.classes import ClassRules
 from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, SCHEMES
+from globcons.io.checks import MAX_COLUMNS
 from globcons.io.formats import FORMATS, TABLE_FORMATS
 
 if TYPE_CHECKING:
     from globcons.analysis.options import ScoreOptions
 
 __all__ = [
+    "LOGO_MAX_COLUMNS",
     "alignment_argument",
+    "column_limit",
     "frame_options",
     "grouping_options",
     "reader_options",
@@ -38,6 +41,8 @@ F = TypeVar("F", bound=Callable[..., Any])
 RESIDUE_GROUP_NAMES = tuple(sorted(RESIDUE_GROUPS))
 #: The class rules' defaults (read from the dataclass: building one would load the matrix).
 _RULES = {field.name: field.default for field in fields(ClassRules)}
+#: Most columns ``logo`` draws unless --max-columns says otherwise (about 2 ms a letter).
+LOGO_MAX_COLUMNS = 2_000
 
 
 def _apply(command: F, options: Sequence[Callable[[F], F]]) -> F:
@@ -52,13 +57,22 @@ alignment_argument = click.argument("alignment", metavar="ALIGNMENT", type=click
 
 
 def reader_options(command: F) -> F:
-    """--format and --keep-inserts: how an alignment file is read."""
+    """--format, --keep-inserts and --max-columns: how an alignment file is read."""
     return _apply(command, [
         click.option("--format", "fmt", type=click.Choice(FORMATS), default=None,
                      help="Input format (default: sniffed from the content; .a2m selects A2M)."),
         click.option("--keep-inserts", is_flag=True,
                      help="A2M: keep insert states (lower case, '.') as columns instead of dropping them."),
+        click.option("--max-columns", type=click.IntRange(1, None), default=None, metavar="N",
+                     help=f"Refuse alignments of more columns (default {MAX_COLUMNS:,}; a logo draws at most "
+                          f"{LOGO_MAX_COLUMNS:,} unless N is given)."),
     ])
+
+
+
+def column_limit(max_columns: int | None) -> int:
+    """The column limit of --max-columns (default :data:`~globcons.io.checks.MAX_COLUMNS`)."""
+    return MAX_COLUMNS if max_columns is None else max_columns
 
 
 def scoring_options(command: F) -> F:

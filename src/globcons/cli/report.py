@@ -7,7 +7,14 @@ from typing import Any
 
 import click
 
-from globcons.cli.options import alignment_argument, grouping_options, reader_options, score_options, scoring_options
+from globcons.cli.options import (
+    alignment_argument,
+    column_limit,
+    grouping_options,
+    reader_options,
+    score_options,
+    scoring_options,
+)
 from globcons.cli.reporting import Reporter, common
 
 __all__ = ["report"]
@@ -16,7 +23,8 @@ __all__ = ["report"]
 @click.command()
 @alignment_argument
 @click.option("-o", "--output", "out_dir", required=True,
-              help="Folder for report.html, the tables, the figures and methods.md (created if missing).")
+              help="Folder for report.html, the tables, the figures and methods.md: created, or replaced as a whole "
+                   "when it is an earlier report.")
 @click.option("--reference", default=None, help="Tie the frame through this row (and add its numbering).")
 @click.option("--sites", "sites_path", type=click.Path(dir_okay=False), default=None,
               help="A site table of your own (label or column, role, ...).")
@@ -27,7 +35,7 @@ __all__ = ["report"]
 @reader_options
 @scoring_options
 @common
-def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no_logos: bool,
+def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, max_columns: int | None, no_logos: bool,
            reporter: Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
            permutations: int, seed: int, conserved_min: float, **kw: Any) -> None:
     """Write an offline report of ALIGNMENT: report.html (self-contained), tables, figures, methods text.
@@ -35,10 +43,8 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no
     With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv.
     """
     from globcons.errors import OptionError
-    from globcons.io.atomic import check_not_input
     from globcons.report.html import write_report
 
-    check_not_input(os.path.join(out_dir, "report.html"), [alignment, groups_file])
     if groups_file is not None and group_by is not None:
         raise OptionError("give either --groups FILE or --group-by REGEX|nearest, not both")
     contrast = None
@@ -46,7 +52,7 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no
         contrast = {"groups_file": groups_file, "group_by": group_by, "min_group_neff": min_group_neff,
                     "permutations": permutations, "seed": seed, "conserved_min": conserved_min}
     result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
-                          logos=not no_logos, contrast=contrast)
+                          logos=not no_logos, contrast=contrast, max_columns=column_limit(max_columns))
     counts = result.table.attrs["class_counts"]
     reporter.info(f"{result.table.attrs['columns']} columns: " + ", ".join(f"{v} {k}" for k, v in counts.items()))
     reporter.info(f"wrote {len(result.files)} files in {os.path.abspath(out_dir)}; open {result.html}")
