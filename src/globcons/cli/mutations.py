@@ -30,7 +30,7 @@ __all__ = ["check", "plan"]
 @common
 def check(target_path: str | None, mutation_list: str | None, mutations_file: str | None, family_path: str | None,
           target_id: str | None, numbering: str, output: str | None, table_format: str | None,
-          reporter: Reporter) -> None:
+          allow_non_globin: bool, reporter: Reporter) -> None:
     """Judge proposed mutations of one TARGET sequence (FASTA) against the family.
 
     Each row: the position as given, mature and HGVS, the frame label, the column class, how often the
@@ -48,7 +48,7 @@ def check(target_path: str | None, mutation_list: str | None, mutations_file: st
         check_not_input(output, inputs)
     mutations = (parse_mutation_list(mutation_list) if mutation_list else []) + \
         (read_mutation_file(mutations_file) if mutations_file else [])
-    target = _load_target(target_path, target_id, family_path, numbering, reporter)
+    target = _load_target(target_path, target_id, family_path, numbering, reporter, allow_non_globin)
     table = check_mutations(target, mutations)
     counts = table["verdict"].value_counts().to_dict()
     _write_with_caution(table, output, table_format, inputs, _metadata(target, numbering), reporter)
@@ -65,8 +65,8 @@ def check(target_path: str | None, mutation_list: str | None, mutations_file: st
 @click.option("--exclude-kinds", default="", help="Comma-separated site kinds to leave out (e.g. heme-ligand).")
 @common
 def plan(target_path: str | None, family_path: str | None, target_id: str | None, numbering: str,
-         output: str | None, table_format: str | None, top: int | None, exclude_labels: str, exclude_helices: str,
-         exclude_kinds: str, reporter: Reporter) -> None:
+         output: str | None, table_format: str | None, allow_non_globin: bool, top: int | None, exclude_labels: str,
+         exclude_helices: str, exclude_kinds: str, reporter: Reporter) -> None:
     """Rank every position of one TARGET sequence for mutation, most tolerant first.
 
     With the verdict, the tolerance score (see the README), the family's best-supported substitutions
@@ -78,7 +78,7 @@ def plan(target_path: str | None, family_path: str | None, target_id: str | None
     inputs = [target_path, family_path]
     if output is not None:
         check_not_input(output, inputs)
-    target = _load_target(target_path, target_id, family_path, numbering, reporter)
+    target = _load_target(target_path, target_id, family_path, numbering, reporter, allow_non_globin)
     table = rank_sites(target, exclude_labels=_split(exclude_labels), exclude_helices=_split(exclude_helices),
                        exclude_kinds=_split(exclude_kinds), top=top)
     _write_with_caution(table, output, table_format, inputs, _metadata(target, numbering), reporter)
@@ -99,6 +99,26 @@ def _metadata(target: Target, numbering: str) -> dict[str, Any]:
 
 
 def _load_target(target_path: str | None, target_id: str | None, family_path: str | None, numbering: str,
+                 reporter: Reporter, allow_non_globin: bool = False) -> Target:
+    """The target and the family, from TARGET / --target / --family; a target that is not a globin is refused
+    unless ``allow_non_globin``."""
+    target = _read_target(target_path, target_id, family_path, numbering, reporter)
+    if not target.placed.is_globin:
+        from globcons.core.alphabet import encode, looks_like_nucleotide
+        from globcons.errors import InputError
+        from globcons.mutations.judge import globin_reason
+
+        if not allow_non_globin:
+            nucleotide = looks_like_nucleotide(encode(target.sequence))
+            why = "it looks like a nucleotide sequence (translate first)" if nucleotide else \
+                globin_reason(target).split(": ", 1)[1].split(", so")[0].replace("the target does", "it does")
+            raise InputError(f"target {target.id!r} is not a globin: {why}; give --allow-non-globin to judge it "
+                             "anyway", source=str(target_path or family_path))
+        reporter.warn(f"target {target.id!r} is not a globin; every row says so")
+    return target
+
+
+def _read_target(target_path: str | None, target_id: str | None, family_path: str | None, numbering: str,
                  reporter: Reporter) -> Target:
     """The target and the family, from TARGET / --target / --family."""
     import numpy as np

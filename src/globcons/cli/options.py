@@ -166,6 +166,9 @@ def target_options(command: F) -> F:
         click.option("-o", "--output", default=None, help="Output table (default: standard output)."),
         click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
                      help="Table format (default: from the extension, else tsv)."),
+        click.option("--allow-non-globin", is_flag=True,
+                     help="Judge a target that does not place significantly on the globin frame (refused "
+                          "otherwise); every row then says 'not a globin'."),
     ])
 
 
@@ -181,7 +184,8 @@ def grouping_options(command: F) -> F:
                      help="Leave out groups whose effective size (summed weight) is smaller."),
         click.option("--permutations", type=click.IntRange(0, 100000), default=0, show_default=True,
                      help="Add a permutation p-value from K shuffles of the group labels (0: off)."),
-        click.option("--seed", type=int, default=0, show_default=True, help="Seed of the permutations."),
+        click.option("--seed", type=click.IntRange(0, 2**63 - 1), default=0, show_default=True,
+                     help="Seed of the permutations (a whole number from 0)."),
         click.option("--conserved-min", type=float, default=0.8, show_default=True,
                      help="Share of a group's residue weight its consensus needs for the group to be conserved."),
     ])
