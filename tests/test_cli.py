@@ -499,7 +499,8 @@ def test_internal_error_with_debug_shows_traceback(capsys, aln, monkeypatch):
 def test_interrupt_exit_130(capsys, aln, monkeypatch):
     monkeypatch.setattr("globcons.analysis.columns.score_columns", _raise(KeyboardInterrupt()))
     status, out, err = run(capsys, "columns", aln)
-    assert (status, out, err) == (130, "", "\nglobcons: interrupted; no partial output was left\n")  # click ends the interrupted line first
+    # click ends the interrupted line first
+    assert (status, out, err) == (130, "", "\nglobcons: interrupted; no partial output was left\n")
 
 
 def test_out_of_memory_exit_2(capsys, aln, monkeypatch):

@@ -18,7 +18,7 @@ import pandas as pd
 from globcons.analysis.columns import score_columns, summarise
 from globcons.errors import OutputError
 from globcons.io.alignments import read_alignment
-from globcons.io.atomic import make_folder
+from globcons.io.atomic import check_folder_output, make_folder
 from globcons.io.records import read_sequences
 from globcons.io.tables import write_table
 
@@ -66,6 +66,8 @@ def run_demo(out_dir: str | os.PathLike = "globcons-demo", full: bool = True) ->
     if folder.exists() and not folder.is_dir():
         raise OutputError("exists and is not a folder", source=str(folder))
     make_folder(folder)
+    if full:
+        check_folder_output(folder / "report")  # refuse before the work, not after it
     alignment = read_alignment(demo_alignment_path())
     table = score_columns(alignment)
     files = write_table(table, folder / "columns.tsv", metadata=table.attrs)

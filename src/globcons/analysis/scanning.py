@@ -39,12 +39,12 @@ from globcons.align.placement import PlacedSequence, place_many
 from globcons.align.scoring_profile import frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.analysis.family import Family, frame_family
+from globcons.analysis.workers import ordered_map
 from globcons.core.alphabet import N_RESIDUES, N_STANDARD, encode, looks_like_nucleotide
 from globcons.core.labels import HELICES
 from globcons.core.matrices import compatible_pairs
 from globcons.core.properties import CORE_HYDROPHOBICITY_ARRAY, HYDROPHOBIC_CORE_MIN, POLAR_MAX
 from globcons.core.vocabulary import DEVIATIONS
-from globcons.analysis.workers import ordered_map
 from globcons.errors import OptionError
 
 __all__ = ["scan", "iter_scan", "FLAGS", "KEY_LABELS", "SUMMARY_COLUMNS", "RESIDUE_COLUMNS", "default_jobs"]

@@ -9,7 +9,6 @@ import click
 
 from globcons.cli.options import (
     alignment_argument,
-    column_limit,
     frame_options,
     reader_options,
     score_options,
@@ -53,7 +52,7 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
     options = score_options(kw)
     if output is not None:
         check_not_input(output, [alignment, kw.get("sites_path")])
-    table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter, column_limit(max_columns))
+    table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter, max_columns)
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
                           caption=f"Column conservation of {os.path.basename(str(alignment))}")
     reporter.info(summarise(table))

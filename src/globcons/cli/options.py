@@ -64,8 +64,9 @@ def reader_options(command: F) -> F:
         click.option("--keep-inserts", is_flag=True,
                      help="A2M: keep insert states (lower case, '.') as columns instead of dropping them."),
         click.option("--max-columns", type=click.IntRange(1, None), default=None, metavar="N",
-                     help=f"Refuse alignments of more columns (default {MAX_COLUMNS:,}; a logo draws at most "
-                          f"{LOGO_MAX_COLUMNS:,} unless N is given)."),
+                     help=f"Refuse alignments of more columns (default {MAX_COLUMNS:,}, none for `columns`, whose "
+                          f"table is computed for all columns at once; a logo draws at most {LOGO_MAX_COLUMNS:,} "
+                          "unless N is given)."),
     ])
 
 

@@ -29,8 +29,8 @@ class OutputClosed(Exception):  # noqa: N818 - a state, not a failure
 
 
 def printable(text: str) -> str:
-    """``text`` safe for a terminal: control characters (escape sequences from ids or file names) written
-    as ``\\x1b``-style escapes, so they are shown, never obeyed.
+    r"""``text`` safe for a terminal: control characters (escape sequences from ids or file names) written
+    as ``\x1b``-style escapes, so they are shown, never obeyed.
 
     Examples
     --------

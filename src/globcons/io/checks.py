@@ -16,8 +16,8 @@ from globcons.core.alphabet import STOP, UNKNOWN, looks_like_nucleotide
 from globcons.core.counts import CHUNK_ROWS
 from globcons.errors import InputError, InputWarning
 
-__all__ = ["PROTEIN_SAMPLE", "MAX_ID_LENGTH", "MAX_COLUMNS", "check_id_length", "check_columns", "unique_ids", "check_protein", "stops_to_unknown", "finish_alignment", "line_number",
-           "bad_character"]
+__all__ = ["PROTEIN_SAMPLE", "MAX_ID_LENGTH", "MAX_COLUMNS", "check_id_length", "check_columns", "unique_ids",
+           "check_protein", "stops_to_unknown", "finish_alignment", "line_number", "bad_character"]
 
 #: Codes that decide whether an input is protein: a nucleotide file is nucleotides throughout.
 PROTEIN_SAMPLE = 4_000_000

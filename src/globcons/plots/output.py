@@ -27,7 +27,7 @@ FIGURE_DPI = 150
 
 
 def plain_text(text: str) -> str:
-    """User text (a title, a file name, an id, a group) shown as it is: a ``$`` would start matplotlib's math
+    r"""User text (a title, a file name, an id, a group) shown as it is: a ``$`` would start matplotlib's math
     text (and a bad formula would fail the figure), so it is escaped.
 
     Examples
