@@ -31,7 +31,7 @@ from globcons.core.scores import (
     unknown_fraction,
 )
 from globcons.errors import OptionError
-from globcons.frame.functional_sites import Site, column_sites, sites
+from globcons.frame.functional_sites import Site, check_user_sites, column_sites, sites
 
 __all__ = ["COLUMN_ORDER", "SHOWN_SCORES", "score_columns", "table_from_summary", "read_user_sites", "summarise",
            "is_thin"]
@@ -102,6 +102,22 @@ def _mapping(summary: ColumnSummary, options: ScoreOptions) -> ColumnMapping:
     return map_columns(summary.rows, anchor=options.reference)
 
 
+def _check_fit(summary: ColumnSummary, options: ScoreOptions) -> None:
+    """Refuse options the alignment cannot honour: a smoothing window wider than it, a --reference row
+    that is missing or holds only gaps."""
+    if options.window and options.window >= summary.n_columns:
+        raise OptionError(f"--window {options.window} is wider than the alignment ({summary.n_columns} columns); "
+                          f"give at most {max(summary.n_columns - 1, 0)}")
+    reference = options.reference
+    if reference is None:
+        return
+    rows = summary.rows
+    if reference not in rows.ids:
+        raise OptionError(f"--reference {reference!r} is not an id of {rows.source}")
+    if not (rows.ungapped_positions(rows.ids.index(reference)) > 0).any():
+        raise OptionError(f"--reference {reference!r} holds only gaps; choose a row with residues")
+
+
 def _reference_columns(table: pd.DataFrame, summary: ColumnSummary, reference: str) -> None:
     """Insert ``ref_position`` and ``ref_residue``: the residue numbering of the reference row."""
     rows = summary.rows
@@ -133,7 +149,9 @@ def table_from_summary(summary: ColumnSummary, options: ScoreOptions,
         user_sites = read_user_sites(options)
     counts = summary.counts
     stats = column_statistics(counts, summary.neff_counts, options.rules)
+    _check_fit(summary, options)
     mapping = _mapping(summary, options)
+    check_user_sites(user_sites, mapping.labels, options.sites_path)
     table = pd.DataFrame({
         "column": np.arange(1, summary.n_columns + 1),
         "frame_label": list(mapping.labels),

@@ -321,6 +321,8 @@ def permutation_pvalues(codes: np.ndarray, labels: np.ndarray, n_groups: int, we
         (L,) ``(1 + #{G_perm >= G_obs}) / (1 + K)``; NaN where ``observed`` is NaN.
     """
     n_rows, n_columns = codes.shape
+    if seed < 0:
+        raise OptionError(f"--seed must be a whole number from 0, got {seed}")
     rng = np.random.default_rng(seed)
     permuted = rng.permuted(np.broadcast_to(labels.astype(np.int64), (permutations, n_rows)), axis=1)
     cell = (np.arange(n_columns, dtype=np.int64)[None, :] * N_CODES + codes)  # (N, L)

@@ -41,8 +41,8 @@ __all__ = ["columns"]
 @scoring_options
 @common
 def columns(alignment: str, output: str | None, table_format: str | None, fmt: str | None, keep_inserts: bool,
-            chunk_rows: int | None, structure_path: str | None, chain_id: str | None, reporter: Reporter,
-            **kw: Any) -> None:
+            max_columns: int | None, chunk_rows: int | None, structure_path: str | None, chain_id: str | None,
+            reporter: Reporter, **kw: Any) -> None:
     """Score and class every column of ALIGNMENT ('-' reads standard input).
 
     One row per column: class (invariant, conservative, variable, gap-rich), entropy, JSD, gap
@@ -58,11 +58,11 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
         check_not_input(output, [alignment, kw.get("sites_path"), structure_path])
     if structure_path is not None:
         table = _with_structure(alignment, options, fmt, keep_inserts, chunk_rows, structure_path, chain_id,
-                                reporter)
+                                reporter, max_columns)
     else:
         if chain_id is not None:
             raise click.UsageError("--chain needs --structure FILE")
-        table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter)
+        table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter, max_columns)
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
                           caption=f"Column conservation of {os.path.basename(str(alignment))}")
     reporter.info(summarise(table))
@@ -73,7 +73,7 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
 
 def _with_structure(alignment: str, options: ScoreOptions, fmt: str | None, keep_inserts: bool,
                     chunk_rows: int | None, structure_path: str, chain_id: str | None,
-                    reporter: Reporter) -> pd.DataFrame:
+                    reporter: Reporter, max_columns: int | None = None) -> pd.DataFrame:
     """The column table with the structural columns (the alignment is read in memory: the chain is placed on it)."""
     from globcons.analysis.columns import score_columns
     from globcons.errors import OptionError
@@ -82,14 +82,14 @@ def _with_structure(alignment: str, options: ScoreOptions, fmt: str | None, keep
 
     if chunk_rows is not None:
         raise OptionError("--structure places the chain on the alignment in memory; drop --chunk-rows")
-    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns)
     table, note = add_structure_columns(aligned, score_columns(aligned, options), structure_path, chain_id)
     reporter.info(note)
     return table
 
 
 def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_inserts: bool,
-                 chunk_rows: int | None, reporter: Reporter) -> pd.DataFrame:
+                 chunk_rows: int | None, reporter: Reporter, max_columns: int | None = None) -> pd.DataFrame:
     """The column table, read in memory or streamed (see :func:`globcons.analysis.streaming.plan_reading`).
 
     Parameters
@@ -104,6 +104,8 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
         ``--chunk-rows``: stream in chunks of this many records; None lets the plan decide.
     reporter
         Told why the file is streamed, when it is.
+    max_columns
+        Refuse a wider alignment (``--max-columns``).
 
     Returns
     -------
@@ -112,6 +114,7 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
     """
     from globcons.analysis.columns import score_columns, table_from_summary
     from globcons.analysis.streaming import plan_reading, summarise_file
+    from globcons.errors import InputError
     from globcons.io.alignments import read_alignment
 
     plan = plan_reading(alignment, options.weights, keep_inserts, chunk_rows, fmt)
@@ -119,5 +122,9 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
         reporter.info(plan.note)
     if plan.stream:
         summary = summarise_file(alignment, options, plan.chunk_rows, fmt, keep_inserts)
+        if max_columns is not None and summary.n_columns > max_columns:
+            raise InputError(f"{summary.n_columns} columns, more than the {max_columns} this command takes "
+                             f"(--max-columns); give --max-columns {summary.n_columns} to go on", source=alignment)
         return table_from_summary(summary, options)
-    return score_columns(read_alignment(alignment, format=fmt, keep_inserts=keep_inserts), options)
+    return score_columns(read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns),
+                         options)

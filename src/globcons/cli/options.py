@@ -18,13 +18,16 @@ from globcons.core.alphabet import RESIDUE_GROUPS
 from globcons.core.classes import ClassRules
 from globcons.core.neighbours import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, NEFF_QUERY_ROWS
 from globcons.core.weights import SCHEMES
+from globcons.io.checks import MAX_COLUMNS
 from globcons.io.formats import FORMATS, TABLE_FORMATS
 
 if TYPE_CHECKING:
     from globcons.analysis.options import ScoreOptions
 
 __all__ = [
+    "LOGO_MAX_COLUMNS",
     "alignment_argument",
+    "column_limit",
     "frame_options",
     "grouping_options",
     "reader_options",
@@ -40,6 +43,8 @@ F = TypeVar("F", bound=Callable[..., Any])
 RESIDUE_GROUP_NAMES = tuple(sorted(RESIDUE_GROUPS))
 #: The class rules' defaults (read from the dataclass: building one would load the matrix).
 _RULES = {field.name: field.default for field in fields(ClassRules)}
+#: Most columns ``logo`` draws unless --max-columns says otherwise (about 2 ms a letter).
+LOGO_MAX_COLUMNS = 2_000
 
 
 def _apply(command: F, options: Sequence[Callable[[F], F]]) -> F:
@@ -54,13 +59,23 @@ alignment_argument = click.argument("alignment", metavar="ALIGNMENT", type=click
 
 
 def reader_options(command: F) -> F:
-    """--format and --keep-inserts: how an alignment file is read."""
+    """--format, --keep-inserts and --max-columns: how an alignment file is read."""
     return _apply(command, [
         click.option("--format", "fmt", type=click.Choice(FORMATS), default=None,
                      help="Input format (default: sniffed from the content; .a2m selects A2M)."),
         click.option("--keep-inserts", is_flag=True,
                      help="A2M: keep insert states (lower case, '.') as columns instead of dropping them."),
+        click.option("--max-columns", type=click.IntRange(1, None), default=None, metavar="N",
+                     help=f"Refuse alignments of more columns (default {MAX_COLUMNS:,}, none for `columns`, whose "
+                          f"table is computed for all columns at once; a logo draws at most {LOGO_MAX_COLUMNS:,} "
+                          "unless N is given)."),
     ])
+
+
+
+def column_limit(max_columns: int | None) -> int:
+    """The column limit of --max-columns (default :data:`~globcons.io.checks.MAX_COLUMNS`)."""
+    return MAX_COLUMNS if max_columns is None else max_columns
 
 
 def scoring_options(command: F) -> F:
@@ -158,6 +173,9 @@ def target_options(command: F) -> F:
         click.option("-o", "--output", default=None, help="Output table (default: standard output)."),
         click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
                      help="Table format (default: from the extension, else tsv)."),
+        click.option("--allow-non-globin", is_flag=True,
+                     help="Judge a target that does not place significantly on the globin frame (refused "
+                          "otherwise); every row then says 'not a globin'."),
     ])
 
 
@@ -184,7 +202,8 @@ def grouping_options(command: F) -> F:
                      help="Leave out groups whose effective size (summed weight) is smaller."),
         click.option("--permutations", type=click.IntRange(0, 100000), default=0, show_default=True,
                      help="Add a permutation p-value from K shuffles of the group labels (0: off)."),
-        click.option("--seed", type=int, default=0, show_default=True, help="Seed of the permutations."),
+        click.option("--seed", type=click.IntRange(0, 2**63 - 1), default=0, show_default=True,
+                     help="Seed of the permutations (a whole number from 0)."),
         click.option("--conserved-min", type=float, default=0.8, show_default=True,
                      help="Share of a group's residue weight its consensus needs for the group to be conserved."),
     ])

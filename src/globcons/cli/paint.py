@@ -6,7 +6,7 @@ from typing import Any
 
 import click
 
-from globcons.cli.options import reader_options, score_options, scoring_options
+from globcons.cli.options import column_limit, reader_options, score_options, scoring_options
 from globcons.cli.reporting import Reporter, common
 from globcons.structure.paint import SCORES, SENTINEL
 
@@ -29,7 +29,7 @@ __all__ = ["paint"]
 @scoring_options
 @common
 def paint(structure: str, alignment_path: str, chain: str | None, score: str, unmapped_value: float, output: str,
-          fmt: str | None, keep_inserts: bool, reporter: Reporter, **kw: Any) -> None:
+          fmt: str | None, keep_inserts: bool, max_columns: int | None, reporter: Reporter, **kw: Any) -> None:
     """Write a column score of ALIGNMENT into the B-factors of a STRUCTURE (PDB or mmCIF).
 
     The chain's residues are placed on the alignment's columns by aligning its sequence to the
@@ -44,7 +44,8 @@ def paint(structure: str, alignment_path: str, chain: str | None, score: str, un
     inputs = [structure, alignment_path]
     check_not_input(output, inputs)
     options = score_options(kw)
-    aligned = read_alignment(alignment_path, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(alignment_path, format=fmt, keep_inserts=keep_inserts,
+                             max_columns=column_limit(max_columns))
     table = score_columns(aligned, options)
     result = paint_structure(structure, aligned, table, output, chain=chain, score=score,
                              unmapped=unmapped_value, inputs=[alignment_path])

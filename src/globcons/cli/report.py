@@ -9,6 +9,7 @@ import click
 
 from globcons.cli.options import (
     alignment_argument,
+    column_limit,
     grouping_options,
     reader_options,
     score_options,
@@ -23,7 +24,8 @@ __all__ = ["report"]
 @click.command()
 @alignment_argument
 @click.option("-o", "--output", "out_dir", required=True,
-              help="Folder for report.html, the tables, the figures and methods.md (created if missing).")
+              help="Folder for report.html, the tables, the figures and methods.md: created, or replaced as a whole "
+                   "when it is an earlier report.")
 @click.option("--reference", default=None, help="Tie the frame through this row (and add its numbering).")
 @click.option("--sites", "sites_path", type=click.Path(dir_okay=False), default=None,
               help="A site table of your own (label or column, role, ...).")
@@ -35,7 +37,7 @@ __all__ = ["report"]
 @reader_options
 @scoring_options
 @common
-def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no_logos: bool,
+def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, max_columns: int | None, no_logos: bool,
            reporter: Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
            permutations: int, seed: int, conserved_min: float, structure_path: str | None, chain_id: str | None,
            **kw: Any) -> None:
@@ -46,10 +48,8 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no
     interfaces.
     """
     from globcons.errors import OptionError
-    from globcons.io.atomic import check_not_input
     from globcons.report.html import write_report
 
-    check_not_input(os.path.join(out_dir, "report.html"), [alignment, groups_file, structure_path])
     if chain_id is not None and structure_path is None:
         raise OptionError("--chain needs --structure FILE")
     if groups_file is not None and group_by is not None:
@@ -59,7 +59,8 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no
         contrast = {"groups_file": groups_file, "group_by": group_by, "min_group_neff": min_group_neff,
                     "permutations": permutations, "seed": seed, "conserved_min": conserved_min}
     result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
-                          logos=not no_logos, contrast=contrast, structure=structure_path, chain=chain_id)
+                          logos=not no_logos, contrast=contrast, structure=structure_path, chain=chain_id,
+                          max_columns=column_limit(max_columns))
     if structure_path is not None:
         reporter.info(result.structure_note)
     counts = result.table.attrs["class_counts"]

@@ -6,6 +6,7 @@ Light to import (click only), like every module the command group loads before a
 from __future__ import annotations
 
 import functools
+import re
 import warnings
 from collections.abc import Callable
 from typing import TYPE_CHECKING, Any
@@ -15,9 +16,28 @@ import click
 if TYPE_CHECKING:
     import pandas as pd
 
-__all__ = ["PROG", "Reporter", "common", "warn_low_data"]
+__all__ = ["PROG", "OutputClosed", "Reporter", "common", "printable", "warn_low_data"]
 
 PROG = "globcons"
+
+#: C0 and C1 control characters (ESC, BEL, CR, ...), DEL, and the Unicode bidirectional overrides.
+_CONTROL = re.compile("[\x00-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
+
+
+class OutputClosed(Exception):  # noqa: N818 - a state, not a failure
+    """The reader of standard output went away (``| head``): the run ends quietly (exit status 141)."""
+
+
+def printable(text: str) -> str:
+    r"""``text`` safe for a terminal: control characters (escape sequences from ids or file names) written
+    as ``\x1b``-style escapes, so they are shown, never obeyed.
+
+    Examples
+    --------
+    >>> printable("id\x1b[2Jx")
+    'id\\x1b[2Jx'
+    """
+    return _CONTROL.sub(lambda m: m.group().encode("unicode_escape").decode("ascii"), text)
 
 
 class Reporter:
@@ -36,19 +56,20 @@ class Reporter:
     def info(self, text: str) -> None:
         """Write ``globcons: TEXT`` to stderr unless quiet."""
         if not self.quiet:
-            click.echo(f"{PROG}: {text}", err=True)
+            click.echo(f"{PROG}: {printable(text)}", err=True)
 
     def warn(self, text: str) -> None:
         """Write ``globcons: warning: TEXT`` to stderr, the first time this text is given."""
         if text not in self._seen:
             self._seen.add(text)
-            click.echo(f"{PROG}: warning: {text}", err=True)
+            click.echo(f"{PROG}: warning: {printable(text)}", err=True)
 
 
 def common(command: Callable[..., Any]) -> Callable[..., Any]:
     """Add --quiet and --debug to a command and hand it a :class:`Reporter` as ``reporter``.
 
-    Warnings the library raises while the command runs are shown as one line each (once per text).
+    Warnings the library raises while the command runs are shown as one line each (once per text). A
+    closed standard output becomes :class:`OutputClosed` (click would turn it into exit status 1).
     ``--debug`` itself is read by :func:`globcons.cli.main`, which decides whether to show tracebacks.
     """
 
@@ -61,6 +82,8 @@ def common(command: Callable[..., Any]) -> Callable[..., Any]:
             warnings.simplefilter("always")
             try:
                 return command(*args, reporter=reporter, **kwargs)
+            except BrokenPipeError:
+                raise OutputClosed() from None
             finally:
                 for item in caught:
                     reporter.warn(str(item.message))

@@ -9,7 +9,7 @@ from typing import IO, TYPE_CHECKING
 
 import click
 
-from globcons.cli.options import reader_options, shuffles_option
+from globcons.cli.options import column_limit, reader_options, shuffles_option
 from globcons.cli.reporting import Reporter, common
 
 if TYPE_CHECKING:
@@ -41,7 +41,7 @@ __all__ = ["scan"]
 @common
 def scan(sequences: str, family_path: str | None, output: str | None, residues_path: str | None,
          table_format: str | None, jobs: int | None, batch_size: int, shuffles: int, heatmap_path: str | None,
-         fmt: str | None, keep_inserts: bool, reporter: Reporter) -> None:
+         fmt: str | None, keep_inserts: bool, max_columns: int | None, reporter: Reporter) -> None:
     """Scan new SEQUENCES (FASTA, gzip, '-' for stdin) against the globin family.
 
     Per sequence: is it a globin, its nearest reference, helices present, key residues and heme
@@ -50,50 +50,51 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     """
     from globcons._version import __version__
     from globcons.analysis.scanning import default_jobs
-    from globcons.io.atomic import check_not_input
+    from globcons.io.atomic import atomic_batch, check_outputs
     from globcons.io.records import stream_records
     from globcons.io.tables import metadata_path, write_metadata
 
     inputs = [sequences, family_path]
-    for path in (output, residues_path, heatmap_path):
-        if path is not None:
-            check_not_input(path, inputs)
+    check_outputs({"-o": output, "-o's metadata": metadata_path(output), "--residues": residues_path,
+                   "--heatmap": heatmap_path}, inputs)
     if heatmap_path is not None:
         from globcons.plots.output import figure_format  # matplotlib only when a figure is asked for
 
         figure_format(heatmap_path)  # fail on a bad extension before the work
-    meta = metadata_path(output)
-    if meta is not None:
-        check_not_input(meta, inputs)
-    family = _load_family(family_path, fmt, keep_inserts, reporter)
+    family = _load_family(family_path, fmt, keep_inserts, reporter, column_limit(max_columns))
     if family.thin:
         reporter.warn(family.describe())
     jobs = jobs or default_jobs()
     records = ((r.id, r.sequence) for r in stream_records(sequences))
-    counts, kept = _write_scan(records, family, output, residues_path, table_format, inputs, jobs, batch_size,
-                               shuffles, keep_residues=heatmap_path is not None, reporter=reporter)
-    reporter.info(f"scanned {counts['sequences']} sequences: {counts['globins']} globins, {counts['departing']} "
+    with atomic_batch():  # the tables, the heat map and the metadata land together or not at all
+        counts, kept = _write_scan(records, family, output, residues_path, table_format, inputs, jobs, batch_size,
+                                   shuffles, keep_residues=heatmap_path is not None, reporter=reporter)
+        if heatmap_path is not None and kept:
+            import pandas as pd
+
+            from globcons.plots.heatmap import draw_departure_heatmap
+            from globcons.plots.output import save_figure
+
+            save_figure(draw_departure_heatmap(pd.concat(kept, ignore_index=True)), heatmap_path, inputs)
+        written = [p for p in (output, residues_path, heatmap_path) if p not in (None, "-")]
+        meta = metadata_path(output)
+        if meta is not None:
+            written.append(write_metadata(meta, {
+                "tool": "globcons", "version": __version__, "family": family.name,
+                "family_effective_sequences": round(family.n_eff, 6), "thin_family": family.thin,
+                "shuffles": shuffles, "sequences": counts["sequences"],
+                "globins": counts["globins"] if shuffles else None}, inputs))
+    globins = (f"{counts['globins']} globins" if shuffles else
+               "no significance computed (--shuffles 0), so is_globin is left blank")
+    reporter.info(f"scanned {counts['sequences']} sequences: {globins}, {counts['departing']} "
                   f"with departures from the family's invariant or conservative columns ({jobs} worker"
                   f"{'s' if jobs > 1 else ''})")
-    if heatmap_path is not None and kept:
-        import pandas as pd
-
-        from globcons.plots.heatmap import draw_departure_heatmap
-        from globcons.plots.output import save_figure
-
-        save_figure(draw_departure_heatmap(pd.concat(kept, ignore_index=True)), heatmap_path, inputs)
-    written = [p for p in (output, residues_path, heatmap_path) if p not in (None, "-")]
-    meta = metadata_path(output)
-    if meta is not None:
-        written.append(write_metadata(meta, {
-            "tool": "globcons", "version": __version__, "family": family.name,
-            "family_effective_sequences": round(family.n_eff, 6), "thin_family": family.thin,
-            "shuffles": shuffles, "sequences": counts["sequences"], "globins": counts["globins"]}, inputs))
     if written:
         reporter.info("wrote " + ", ".join(written))
 
 
-def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, reporter: Reporter) -> Family:
+def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, reporter: Reporter,
+                 max_columns: int | None = None) -> Family:
     """The family of --family (its columns tied to the frame), else the built-in frame family."""
     from globcons.align.anchor import map_columns
     from globcons.analysis.family import family_from_alignment, frame_family
@@ -101,7 +102,7 @@ def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, r
 
     if family_path is None:
         return frame_family()
-    aligned = read_alignment(family_path, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(family_path, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns)
     mapping = map_columns(aligned)
     family = family_from_alignment(aligned, labels=mapping.labels)
     reporter.info(f"family: {aligned.n_rows} sequences, {aligned.n_columns} columns; {mapping.note}")

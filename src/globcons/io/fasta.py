@@ -24,7 +24,7 @@ from globcons.core.counts import step_rows
 from globcons.errors import InputError
 from globcons.io.checks import bad_character, finish_alignment, line_number
 
-__all__ = ["SLICE_BYTES", "parse_fasta_rows", "parse_fasta", "clean_fasta_rows"]
+__all__ = ["SLICE_BYTES", "parse_fasta_rows", "parse_fasta", "clean_fasta_rows", "lone_returns_to_newlines"]
 
 #: Bytes per slice of the FASTA byte path. Slices end at line ends, and no whole-file mask is built, so
 #: the temporary memory is a few times this whatever the size of the file.
@@ -54,6 +54,22 @@ def _positions(buf: np.ndarray, value: int, slice_bytes: int = SLICE_BYTES) -> n
     found = [np.flatnonzero(buf[start:start + slice_bytes] == value) + start
              for start in range(0, buf.size, slice_bytes)]
     return np.concatenate(found) if found else np.empty(0, dtype=np.int64)
+
+
+def lone_returns_to_newlines(data: bytes | bytearray) -> bytes | bytearray:
+    """``data`` with every CR that does not start a CRLF turned into LF (old Mac line ends), so that every
+    reader sees the same lines whatever the line ends; in place when ``data`` is a ``bytearray``."""
+    if b"\r" not in data:
+        return data
+    buf = np.frombuffer(data, dtype=np.uint8)
+    returns = _positions(buf, 13)
+    following = np.minimum(returns + 1, buf.size - 1)
+    lone = returns[(returns + 1 >= buf.size) | (buf[following] != 10)]
+    if lone.size == 0:
+        return data
+    out = data if isinstance(data, bytearray) else bytearray(data)
+    np.frombuffer(out, dtype=np.uint8)[lone] = 10
+    return out
 
 
 def _slice_bounds(newlines: np.ndarray, size: int, slice_bytes: int) -> list[tuple[int, int]]:

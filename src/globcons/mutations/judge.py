@@ -44,14 +44,17 @@ research: see :data:`globcons.core.vocabulary.CAUTION`.
 
 from __future__ import annotations
 
+import difflib
 from collections.abc import Iterable
 
 import numpy as np
 import pandas as pd
 
+from globcons.align.frame_columns import reference_alignment
+from globcons.align.significance import GLOBIN_EVALUE
 from globcons.analysis.family import Family
 from globcons.core.alphabet import N_STANDARD, RESIDUE_LETTERS
-from globcons.core.labels import HELICES, is_helix, place_of, segment_of
+from globcons.core.labels import FRAME_ORDER, HELICES, is_helix, place_of, segment_of
 from globcons.core.matrices import matrix_score
 from globcons.core.properties import (
     CORE_HYDROPHOBICITY,
@@ -63,7 +66,7 @@ from globcons.core.properties import (
 )
 from globcons.core.vocabulary import VERDICTS
 from globcons.errors import OptionError
-from globcons.frame.functional_sites import Site, sites_at
+from globcons.frame.functional_sites import Site, sites, sites_at
 from globcons.mutations.context import BURIAL_ORDER, STRUCTURE_COLUMNS, StructureContext
 from globcons.mutations.notation import Mutation, parse_mutation
 from globcons.mutations.target import Target, as_target, hgvs_cell
@@ -140,6 +143,17 @@ def _core_reason(family: Family, column: int, new: str) -> str:
         return ""
     return (f"hydrophobic core column (mean hydrophobicity {core:+.2f}, Fauchère & Pliška 1983); {new} is polar "
             f"({CORE_HYDROPHOBICITY[new]:+.2f})")
+
+
+def globin_reason(target: Target) -> str:
+    """``not a globin: ...`` when the target does not place significantly on the frame (E-value not below
+    :data:`~globcons.align.significance.GLOBIN_EVALUE`), else ''. Every row of such a target carries it."""
+    if target.placed.is_globin:
+        return ""
+    evalue = target.placed.evalue
+    shown = f"E-value {evalue:.2g}" if evalue == evalue else "no E-value"
+    return (f"not a globin: the target does not place significantly on the globin frame ({shown}, not below "
+            f"{GLOBIN_EVALUE:g}), so the family says nothing about it")
 
 
 def _evidence_reason(family: Family, column: int) -> str:
@@ -238,6 +252,7 @@ def _assess(target: Target, given: int, mutation: Mutation,
     score = matrix_score(family.matrix, wild, new)
     if score == score and score < 0:
         reasons.append(f"substitution scores {score:+.0f} in {family.matrix}")
+    reasons += [r for r in (globin_reason(target),) if r]
     return {
         "mutation": mutation.text, "position": given, "mature_position": mature, "hgvs": hgvs,
         "frame_label": label, "column": column + 1 if column >= 0 else None, "column_class": column_class,
@@ -345,7 +360,8 @@ def _position_row(target: Target, given: int, site_list: list[Site],
     if given == 1 and target.starts_with_met:
         return {"position": 1, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": "",
                 "column": None, "column_class": "", **cells, "tolerance": INITIATOR_TOLERANCE, "verdict": "locked",
-                "substitutions": "", "reasons": "initiator Met: changing it loses the start of translation"}
+                "substitutions": "", "reasons": "; ".join(r for r in (
+                    "initiator Met: changing it loses the start of translation", globin_reason(target)) if r)}
     column = int(target.columns[given - 1])
     reasons = [f"{label}: {site.role}" for site in site_list]
     verdict = "locked" if site_list else "open"
@@ -376,10 +392,26 @@ def _position_row(target: Target, given: int, site_list: list[Site],
     tolerance += delta
     if closed and verdict == "open":
         verdict = "guarded"
+    reasons += [r for r in (globin_reason(target),) if r]
     return {"position": given, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": label,
             "column": column + 1 if column >= 0 else None, "column_class": cls, **cells,
             "tolerance": round(tolerance, 6),
             "verdict": verdict, "substitutions": substitutions, "reasons": "; ".join(reasons)}
+
+
+def _check_names(labels: set[str], kinds: set[str]) -> None:
+    """Refuse excluded labels the frame does not have and site kinds no site has, naming the valid ones."""
+    known_labels = {label for label in reference_alignment().own_labels.ravel() if label}
+    unknown = sorted(labels - known_labels, key=str)
+    if unknown:
+        close = difflib.get_close_matches(unknown[0].upper(), sorted(known_labels), n=1)
+        hint = f" (did you mean {close[0]}?)" if close else ""
+        raise OptionError(f"--exclude-labels: {unknown[0]!r} is not a frame label{hint}; labels are upper case, a "
+                          f"segment ({', '.join(FRAME_ORDER)}) then a place, e.g. A3, F8, FG3")
+    known_kinds = sorted({site.kind for site in sites() if site.kind})
+    unknown = sorted(kinds - set(known_kinds))
+    if unknown:
+        raise OptionError(f"--exclude-kinds: unknown site kind {unknown[0]!r}; the kinds are {', '.join(known_kinds)}")
 
 
 def rank_sites(target, family: Family | None = None, numbering: str = "given",
@@ -423,6 +455,7 @@ def rank_sites(target, family: Family | None = None, numbering: str = "given",
     unknown_helices = helices_out - set(HELICES)
     if unknown_helices:
         raise OptionError(f"unknown helix {sorted(unknown_helices)[0]!r}; helices are {', '.join(HELICES)}")
+    _check_names(labels_out, kinds_out)
     rows = []
     for given in range(1, len(target.sequence) + 1):
         label = target.placed.label_at(given)

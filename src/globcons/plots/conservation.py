@@ -13,7 +13,7 @@ from matplotlib.lines import Line2D
 from globcons.analysis.columns import SHOWN_SCORES
 from globcons.errors import OptionError
 from globcons.plots.axes import draw_helix_track, position_axis, shade_helices, spread_labels
-from globcons.plots.output import figure_format, finish_figure
+from globcons.plots.output import figure_format, finish_figure, plain_text
 from globcons.plots.palette import CLASS_COLOURS, OKABE_ITO, tinted
 
 __all__ = ["PROFILE_SCORES", "draw_profile"]
@@ -120,6 +120,6 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
               frameon=False, handletextpad=0.3, columnspacing=1.2)
     source = table.attrs.get("input")
     heading = title if title is not None else (f"{os.path.basename(str(source))}: {score}" if source else score)
-    sites_ax.set_title(heading, fontsize=10, loc="left")
+    sites_ax.set_title(plain_text(heading), fontsize=10, loc="left")
     return finish_figure(fig, path, inputs)
 

@@ -25,7 +25,7 @@ from globcons.core.scores import LOG2_20, gap_fraction, information_bits
 from globcons.core.weights import compute_weights
 from globcons.errors import OptionError
 from globcons.plots.glyphs import stack_glyphs
-from globcons.plots.output import figure_format, finish_figure
+from globcons.plots.output import figure_format, finish_figure, plain_text
 from globcons.plots.palette import CLASS_COLOURS, GAP_RICH_COLOUR, GROUP_COLOURS
 
 __all__ = ["information_matrix", "LogoData", "logo_matrix", "column_range", "draw_logo"]
@@ -224,7 +224,7 @@ def draw_logo(alignment: Alignment, columns: Sequence[int], path: str | os.PathL
     ax.set_xlabel("frame position" if labels is not None and any(labels) else "alignment column")
     ax.spines[["top", "right"]].set_visible(False)
     if title:
-        ax.set_title(title, fontsize=10, loc="left")
+        ax.set_title(plain_text(title), fontsize=10, loc="left")
     handles = [Patch(facecolor=colour, label=f"{name} ({letters})")
                for name, (letters, colour) in GROUP_COLOURS.items()]
     if data.gap_rich.any():

@@ -15,7 +15,7 @@ from matplotlib.figure import Figure
 from globcons.errors import OptionError
 from globcons.io.atomic import atomic_output
 
-__all__ = ["FIGURE_FORMATS", "FIGURE_DPI", "figure_format", "save_figure", "finish_figure"]
+__all__ = ["FIGURE_FORMATS", "FIGURE_DPI", "figure_format", "save_figure", "finish_figure", "plain_text"]
 
 
 #: Output extension -> matplotlib format.
@@ -24,6 +24,18 @@ FIGURE_FORMATS: dict[str, str] = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
 
 #: Resolution of raster (PNG) output; a figure of w x h inches gives w*FIGURE_DPI x h*FIGURE_DPI pixels.
 FIGURE_DPI = 150
+
+
+def plain_text(text: str) -> str:
+    r"""User text (a title, a file name, an id, a group) shown as it is: a ``$`` would start matplotlib's math
+    text (and a bad formula would fail the figure), so it is escaped.
+
+    Examples
+    --------
+    >>> plain_text("cost $5")
+    'cost \\$5'
+    """
+    return str(text).replace("$", r"\$")
 
 
 def figure_format(path: str | os.PathLike) -> str:

@@ -13,7 +13,10 @@ and the logos of each helix, and writes into a folder:
 - with a grouping (``contrast=``), ``contrast.tsv`` (+ meta) and ``contrast.svg``/``contrast.png``: the
   group contrast of :mod:`globcons.analysis.contrast`, also shown as a section of the HTML.
 
-Files already in the folder that the report does not write are left alone.
+The folder is replaced as a whole (:func:`~globcons.io.atomic.atomic_folder`): everything is written into a
+temporary sibling folder that takes the place of the old one only when the whole report is written, so
+no stale file of an earlier run survives and a failed run leaves the old folder as it was. An existing
+folder is replaced only when it is empty or an earlier report (it holds ``report.html``).
 """
 
 from __future__ import annotations
@@ -34,9 +37,8 @@ from globcons.analysis.options import ScoreOptions
 from globcons.core.alignment import Alignment
 from globcons.core.labels import HELICES, segment_of
 from globcons.core.vocabulary import CAUTION, CONTRAST_CLASSES
-from globcons.errors import OutputError
 from globcons.io.alignments import read_alignment
-from globcons.io.atomic import atomic_output
+from globcons.io.atomic import atomic_folder, atomic_output, check_folder_output
 from globcons.io.tables import text_cell, write_table
 from globcons.plots.conservation import draw_profile
 from globcons.plots.contrast import draw_contrast
@@ -198,15 +200,15 @@ def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo
 def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.PathLike,
                  options: ScoreOptions | None = None, fmt: str | None = None, keep_inserts: bool = False,
                  logos: bool = True, contrast: dict | None = None, structure: str | os.PathLike | None = None,
-                 chain: str | None = None) -> ReportResult:
-    """Write the report of an alignment into ``out_dir`` (created if missing).
+                 chain: str | None = None, max_columns: int | None = None) -> ReportResult:
+    """Write the report of an alignment into the folder ``out_dir``, replaced as a whole.
 
     Parameters
     ----------
     alignment
         A path (read with :func:`globcons.io.read_alignment`) or an Alignment.
     out_dir
-        The folder; files in it that the report does not write are left alone.
+        The folder: new, empty, or an earlier report (see :func:`~globcons.io.atomic.atomic_folder`).
     options
         Scoring options (defaults of :class:`~globcons.analysis.options.ScoreOptions`).
     logos
@@ -219,26 +221,35 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         A PDB or mmCIF file and its chain (default: the first protein chain): the column table gains the
         structural columns of :func:`globcons.structure.context.add_structure_columns`, and the methods
         text says how they were measured.
+    max_columns
+        Refuse an alignment of more columns (None: no limit).
     """
     folder = Path(out_dir)
-    if folder.exists() and not folder.is_dir():
-        raise OutputError("exists and is not a folder", source=str(folder))
-    inputs = [] if isinstance(alignment, Alignment) else [alignment]
-    aligned = alignment if isinstance(alignment, Alignment) else read_alignment(alignment, format=fmt,
-                                                                                 keep_inserts=keep_inserts)
     options = options or ScoreOptions()
+    inputs = [] if isinstance(alignment, Alignment) else [alignment]
+    check_folder_output(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file"), structure])
+    aligned = alignment if isinstance(alignment, Alignment) else read_alignment(
+        alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns)
     table = score_columns(aligned, options)
     structure_note = ""
     if structure is not None:
         table, structure_note = add_structure_columns(aligned, table, structure, chain)
         inputs.append(structure)
-    folder.mkdir(parents=True, exist_ok=True)
+    with atomic_folder(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file")]) as work:
+        files = _write_report_files(aligned, table, work, options, inputs, logos, contrast)
+    files = [str(folder / Path(f).relative_to(work)) for f in files]
+    return ReportResult(folder, tuple(files), table, structure_note)
+
+
+def _write_report_files(aligned: Alignment, table: pd.DataFrame, folder: Path, options: ScoreOptions,
+                        inputs: list, logos: bool, contrast: dict | None) -> list[str]:
+    """Every file of the report, written into ``folder``; the paths written, report.html first."""
     files = _write_tables(table, folder, inputs)
     profile_uri = _write_profile(table, folder, inputs, files)
     logo_uris = _write_helix_logos(aligned, table, folder, inputs, files) if logos else []
     contrast_section = None
     methods, references = methods_text(table), citations(table.attrs)
-    if structure is not None:
+    if "structure" in table.attrs:
         methods += " " + structure_methods_text(table.attrs["structure"])
         references += STRUCTURE_CITATIONS
     if contrast:
@@ -253,4 +264,4 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     with atomic_output(folder / "report.html", inputs) as stream:
         stream.write(html)
     files.insert(0, str(folder / "report.html"))
-    return ReportResult(folder, tuple(files), table, structure_note)
+    return files
