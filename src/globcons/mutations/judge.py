@@ -54,13 +54,14 @@ from globcons.core.vocabulary import VERDICTS
 from globcons.errors import OptionError
 from globcons.frame.functional_sites import Site, sites_at
 from globcons.mutations.notation import Mutation, parse_mutation
-from globcons.mutations.target import Target, as_target, hgvs_cell
+from globcons.mutations.target import Target, as_target, hgvs_cell, hgvs_note
 
 __all__ = ["check", "rank_sites", "CHECK_COLUMNS", "PLAN_COLUMNS"]
 
-CHECK_COLUMNS = ("mutation", "position", "mature_position", "hgvs", "frame_label", "column", "column_class",
-                 "family_frequency", "blosum", "property_change", "verdict", "reasons")
-PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "residue", "frame_label", "column",
+CHECK_COLUMNS = ("mutation", "position", "wild_type", "new_residue", "mature_position", "hgvs", "hgvs_note",
+                 "frame_label", "column", "column_class", "family_frequency", "blosum", "property_change", "verdict",
+                 "reasons")
+PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "hgvs_note", "residue", "frame_label", "column",
                 "column_class", "tolerance", "verdict", "substitutions", "reasons")
 
 #: A helix residue at this place or later is past the helix's first turn (Pro is common in the first
@@ -192,7 +193,8 @@ def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]
     if score == score and score < 0:
         reasons.append(f"substitution scores {score:+.0f} in {family.matrix}")
     return {
-        "mutation": mutation.text, "position": given, "mature_position": mature, "hgvs": hgvs,
+        "mutation": mutation.text, "position": given, "wild_type": wild, "new_residue": new,
+        "mature_position": mature, "hgvs": hgvs, "hgvs_note": "" if hgvs else hgvs_note(target),
         "frame_label": label, "column": column + 1 if column >= 0 else None, "column_class": column_class,
         "family_frequency": frequency, "blosum": score, "property_change": property_change(wild, new).text(),
         "verdict": verdict, "reasons": "; ".join(reasons),
@@ -279,7 +281,8 @@ def _position_row(target: Target, given: int, site_list: list[Site]) -> dict[str
     label = target.placed.label_at(given)
     mature, hgvs = _numbering_cells(target, given)
     if given == 1 and target.starts_with_met:
-        return {"position": 1, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": "",
+        return {"position": 1, "mature_position": mature, "hgvs": hgvs, "hgvs_note": "", "residue": wild,
+                "frame_label": "",
                 "column": None, "column_class": "", "tolerance": INITIATOR_TOLERANCE, "verdict": "locked",
                 "substitutions": "", "reasons": "initiator Met: changing it loses the start of translation"}
     column = int(target.columns[given - 1])
@@ -307,7 +310,8 @@ def _position_row(target: Target, given: int, site_list: list[Site]) -> dict[str
         tolerance -= HELIX_PG_PENALTY
         reasons.append(f"{'Pro' if wild == 'P' else 'Gly'} inside helix {helix} ({label}): structural")
         verdict = "guarded" if verdict == "open" else verdict
-    return {"position": given, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": label,
+    return {"position": given, "mature_position": mature, "hgvs": hgvs, "hgvs_note": "" if hgvs else hgvs_note(target),
+            "residue": wild, "frame_label": label,
             "column": column + 1 if column >= 0 else None, "column_class": cls, "tolerance": round(tolerance, 6),
             "verdict": verdict, "substitutions": substitutions, "reasons": "; ".join(reasons)}
 
