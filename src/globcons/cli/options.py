@@ -169,5 +169,6 @@ def grouping_options(command: F) -> F:
                      help="Add a permutation p-value from K shuffles of the group labels (0: off)."),
         click.option("--seed", type=int, default=0, show_default=True, help="Seed of the permutations."),
         click.option("--conserved-min", type=float, default=0.8, show_default=True,
-                     help="Share of a group's residue weight its consensus needs for the group to be conserved."),
+                     help="A group is conserved when its most common residue makes up at least this share of its "
+                          "residues (each sequence counted with its weight, gaps not counted)."),
     ])

@@ -10,16 +10,23 @@ import os
 from collections.abc import Iterable
 from pathlib import Path
 
+import matplotlib
 from matplotlib.figure import Figure
 
 from globcons.errors import OptionError
 from globcons.io.atomic import atomic_output
 
-__all__ = ["FIGURE_FORMATS", "FIGURE_DPI", "figure_format", "save_figure", "finish_figure"]
+__all__ = ["FIGURE_FORMATS", "FIGURE_DPI", "SAVE_SETTINGS", "figure_format", "save_figure", "finish_figure"]
 
 
 #: Output extension -> matplotlib format.
 FIGURE_FORMATS: dict[str, str] = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
+
+
+#: matplotlib settings while a figure is written: SVG text stays text (editable in a drawing program, and
+#: searchable), and SVG element ids are hashed with a fixed salt instead of a random one, so that the same
+#: figure gives the same bytes on every run.
+SAVE_SETTINGS: dict[str, object] = {"svg.fonttype": "none", "svg.hashsalt": "globcons"}
 
 
 #: Resolution of raster (PNG) output; a figure of w x h inches gives w*FIGURE_DPI x h*FIGURE_DPI pixels.
@@ -57,7 +64,8 @@ def save_figure(fig: Figure, path: str | os.PathLike, inputs: Iterable = ()) -> 
             metadata["CreationDate"] = None
         elif fmt == "svg":
             metadata["Date"] = None
-        fig.savefig(stream, format=fmt, dpi=FIGURE_DPI, metadata=metadata)
+        with matplotlib.rc_context(SAVE_SETTINGS):
+            fig.savefig(stream, format=fmt, dpi=FIGURE_DPI, metadata=metadata)
     return str(path)
 
 

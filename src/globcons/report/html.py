@@ -48,9 +48,13 @@ from globcons.report.methods import (
     citations,
     contrast_methods_text,
     methods_text,
+    reference_list,
 )
 
 __all__ = ["ReportResult", "write_report"]
+
+#: CSS pixels per inch (CSS fixes 96), for the displayed size of the figures.
+CSS_PX_PER_INCH = 96
 
 _NUMERIC = {"column", "ref_position", "support", "conservation", "property_conservation", "entropy_bits",
             "entropy_norm", "property_entropy", "jsd", "gap_fraction",
@@ -108,8 +112,8 @@ def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, s
         save_figure(figure, folder / f"contrast.{ext}", inputs)
         files.append(str(folder / f"contrast.{ext}"))
     best = top_contrast(table, top)
-    shown = ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue"]
-    shown += ["pvalue_permutation"] if "pvalue_permutation" in best else []
+    shown = ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue", "qvalue"]
+    shown += ["pvalue_permutation", "qvalue_permutation"] if "pvalue_permutation" in best else []
     shown += [c for c in best.columns if c.startswith("consensus_")]
     methods = contrast_methods_text(meta)
     return {
@@ -148,8 +152,10 @@ def _write_profile(table: pd.DataFrame, folder: Path, inputs: list, files: list[
 
 
 def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, inputs: list,
-                       files: list[str]) -> list[tuple[str, str]]:
-    """Write logo_<helix>.svg for every helix the columns carry; return (helix, data URI) pairs."""
+                       files: list[str]) -> list[tuple[str, str, tuple[int, int]]]:
+    """Write logo_<helix>.svg for every helix the columns carry; return (helix, data URI, (width, height) in CSS
+    pixels). Every logo is drawn to one y-scale (:data:`globcons.plots.logo.LOGO_GEOMETRY`) and the page shows
+    each at that size, unscaled, so their heights in bits compare across helices."""
     meta, labels = table.attrs, table["frame_label"].tolist()
     uris = []
     for helix in HELICES:
@@ -163,11 +169,12 @@ def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, in
                            identity=meta["identity"] or 0.8)
         save_figure(figure, path, inputs)
         files.append(str(path))
-        uris.append((helix, _data_uri(path, "image/svg+xml")))
+        size = (round(figure.get_figwidth() * CSS_PX_PER_INCH), round(figure.get_figheight() * CSS_PX_PER_INCH))
+        uris.append((helix, _data_uri(path, "image/svg+xml"), size))
     return uris
 
 
-def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo_uris: list[tuple[str, str]],
+def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo_uris: list[tuple],
                  methods: str, references: list[str], contrast_section: dict | None) -> str:
     from jinja2 import Environment  # only the report needs templates
 
@@ -229,6 +236,7 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         contrast_section = _contrast_section(aligned, folder, options, dict(contrast), inputs, files)
         methods += " " + contrast_section["methods"]
         references += CONTRAST_CITATIONS + (PERMUTATION_CITATION if contrast_section["permutations"] else [])
+    references = reference_list(references)
     with atomic_output(folder / "methods.md", inputs) as stream:
         stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
                      + "\n".join(f"- {c}" for c in references) + "\n")
