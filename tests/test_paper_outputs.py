@@ -78,8 +78,8 @@ def test_profile_legend_counts_equal_the_summary(examples, capsys):
     # (three of the gap-rich columns are the CD insertion, which has no frame label and is not drawn).
     assert main(["columns", str(examples / "family.fasta"), "-o", str(examples / "c.tsv")]) == 0
     summary = capsys.readouterr().err
-    counts = dict((name, int(n)) for n, name in re.findall(r"(\d+) (invariant|conservative|variable|gap-rich)",
-                                                           summary))
+    counts = {name: int(n) for n, name in re.findall(r"(\d+) (invariant|conservative|variable|gap-rich)",
+                                                           summary)}
     assert counts == {"invariant": 30, "conservative": 48, "variable": 72, "gap-rich": 6}
     out = examples / "legend.svg"
     assert main(["profile", str(examples / "family.fasta"), "-o", str(out), "--quiet"]) == 0

@@ -7,7 +7,14 @@ from typing import TYPE_CHECKING, Any
 
 import click
 
-from globcons.cli.options import alignment_argument, frame_options, reader_options, score_options, scoring_options
+from globcons.cli.options import (
+    alignment_argument,
+    frame_options,
+    paper_options,
+    reader_options,
+    score_options,
+    scoring_options,
+)
 from globcons.cli.reporting import Reporter, common, warn_low_data
 from globcons.io.formats import TABLE_FORMATS
 
@@ -29,27 +36,36 @@ __all__ = ["columns"]
               help="Stream the alignment (FASTA/A2M) in two passes, N records per chunk: memory independent of "
                    "the number of rows, same table. Default: in memory, unless the file needs more memory "
                    "(about 4x its size) than is available.")
+@paper_options
 @reader_options
 @scoring_options
 @common
 def columns(alignment: str, output: str | None, table_format: str | None, fmt: str | None, keep_inserts: bool,
-            chunk_rows: int | None, reporter: Reporter, **kw: Any) -> None:
+            chunk_rows: int | None, only_classes: list[str], only_labels: list[str], tex_columns: list[str],
+            reporter: Reporter, **kw: Any) -> None:
     """Score and class every column of ALIGNMENT ('-' reads standard input).
 
     One row per column: class (invariant, conservative, variable, gap-rich), entropy, JSD, gap
     fraction, effective sequences, consensus and residue frequencies.
     """
     from globcons.analysis.columns import summarise
+    from globcons.analysis.paper import keep_rows, write_column_table
     from globcons.io.atomic import check_not_input
-    from globcons.io.tables import write_table
+    from globcons.io.formats import table_format_for
 
     options = score_options(kw)
     if output is not None:
         check_not_input(output, [alignment, kw.get("sites_path")])
+    out_format = table_format_for(output, table_format)
     table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter)
-    written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
-                          caption=f"Column conservation of {os.path.basename(str(alignment))}")
+    shown = keep_rows(table, only_classes, only_labels)
+    written = write_column_table(shown, output, out_format, inputs=[alignment], tex_columns=tex_columns,
+                                 caption=f"Column conservation of {os.path.basename(str(alignment))}")
     reporter.info(summarise(table))
+    if shown is not table:
+        reporter.info(f"kept {len(shown)} of {len(table)} columns in the table ({_choice(only_classes, only_labels)})")
+    if tex_columns and out_format != "tex":
+        reporter.warn(f"--tex-columns applies to tex tables only; this table is {out_format}")
     warn_low_data(table, reporter)
     if written:
         reporter.info("wrote " + ", ".join(written))
@@ -88,3 +104,10 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
         summary = summarise_file(alignment, options, plan.chunk_rows, fmt, keep_inserts)
         return table_from_summary(summary, options)
     return score_columns(read_alignment(alignment, format=fmt, keep_inserts=keep_inserts), options)
+
+
+def _choice(only_classes: list[str], only_labels: list[str]) -> str:
+    """How the rows were chosen, in words."""
+    parts = ([f"classes {', '.join(only_classes)}"] if only_classes else []) + \
+        ([f"labels {', '.join(only_labels)}"] if only_labels else [])
+    return "; ".join(parts)

@@ -7,8 +7,15 @@ from typing import Any
 
 import click
 
-from globcons.cli.options import alignment_argument, grouping_options, reader_options, score_options, scoring_options
-from globcons.cli.reporting import Reporter, common
+from globcons.cli.options import (
+    alignment_argument,
+    grouping_options,
+    paper_options,
+    reader_options,
+    score_options,
+    scoring_options,
+)
+from globcons.cli.reporting import Reporter, common, step_progress
 
 __all__ = ["report"]
 
@@ -24,12 +31,14 @@ __all__ = ["report"]
 @click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame.")
 @click.option("--no-logos", is_flag=True, help="Skip the logos of each helix (the slowest part).")
 @grouping_options
+@paper_options
 @reader_options
 @scoring_options
 @common
 def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no_logos: bool,
            reporter: Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
-           permutations: int, seed: int, conserved_min: float, **kw: Any) -> None:
+           permutations: int, seed: int, conserved_min: float, only_classes: list[str], only_labels: list[str],
+           tex_columns: list[str], **kw: Any) -> None:
     """Write an offline report of ALIGNMENT: report.html (self-contained), tables, figures, methods text.
 
     With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv.
@@ -45,8 +54,10 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, no
     if groups_file is not None or group_by is not None:
         contrast = {"groups_file": groups_file, "group_by": group_by, "min_group_neff": min_group_neff,
                     "permutations": permutations, "seed": seed, "conserved_min": conserved_min}
-    result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
-                          logos=not no_logos, contrast=contrast)
+    with step_progress(reporter, "report") as progress:
+        result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
+                              logos=not no_logos, contrast=contrast, only_classes=only_classes,
+                              only_labels=only_labels, tex_columns=tex_columns or None, progress=progress)
     counts = result.table.attrs["class_counts"]
     reporter.info(f"{result.table.attrs['columns']} columns: " + ", ".join(f"{v} {k}" for k, v in counts.items()))
     reporter.info(f"wrote {len(result.files)} files in {os.path.abspath(out_dir)}; open {result.html}")
