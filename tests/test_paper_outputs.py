@@ -170,3 +170,111 @@ def test_stable_svg_ids_rename_ids_that_differ_only_by_hash():
     assert re.findall(rb'id="([a-z][0-9a-f]{6})(\d{4})"', one) == [(one[one.index(b'id="p') + 4:][:7], b"0000"),
                                                                  (one[one.index(b'id="h') + 4:][:7], b"0001")]
     assert one.count(one[one.index(b'id="p') + 4:][:11]) == 2  # definition and reference renamed together
+
+
+# --------------------------------------------------------------------------------------------------
+# Tables for papers: rows kept by class or label, and a tex table that fits a page
+
+#: Text width of LaTeX's article class at 10pt (common practice, from memory: 345pt); the estimate below
+#: takes 4.6pt per character of \small (9pt Computer Modern, about half an em) and 2 x 3pt between columns.
+ARTICLE_TEXTWIDTH_PT = 345.0
+SMALL_CHAR_PT = 4.6
+
+
+def tex_width_pt(text: str) -> float:
+    """Estimated width of a tex table's widest content: every cell column's longest cell, wrapped columns
+    at their stated width."""
+    lines = [line for line in text.splitlines() if not line.startswith("%")]
+    spec = next(re.match(r"\\begin\{longtable\}\{(.*)\}$", line).group(1) for line in lines
+                if line.startswith(r"\begin{longtable}"))
+    kinds = re.findall(r">\{[^}]*\}p\{[\d.]+cm\}|[lrc]", spec)
+    rows = [line[:-3].split(" & ") for line in lines if line.endswith(r" \\") and " & " in line]
+    assert rows and all(len(row) == len(kinds) for row in rows)
+    width = 0.0
+    for index, kind in enumerate(kinds):
+        if kind.startswith(">"):
+            width += float(re.search(r"p\{([\d.]+)cm\}", kind).group(1)) * 28.45
+        else:
+            width += max(len(row[index].replace("\\", "")) for row in rows) * SMALL_CHAR_PT
+        width += 6.0
+    return width
+
+
+def test_tex_table_fits_a_page(examples, capsys):
+    # globcons columns family.fasta -o columns.tex: the chosen columns, small type, sites wrapped
+    out = examples / "columns.tex"
+    assert main(["columns", str(examples / "family.fasta"), "-o", str(out), "--quiet"]) == 0
+    text = out.read_text()
+    assert r"\begingroup\small\setlength{\tabcolsep}{3pt}" in text and r"\endgroup" in text
+    header = next(line for line in text.splitlines() if line.startswith("col. &"))
+    assert header == r"col. & label & class & supp. & res. & cons. & gaps & n\_eff & sites \\"
+    assert tex_width_pt(text) <= ARTICLE_TEXTWIDTH_PT
+    assert "supp.: posterior support of the class" in text  # the caption says what the short headings are
+    assert re.search(r"^96 & F8 & invariant & 1\.00 & H & 1\.00 & 0\.00 & 45\.2 & heme-ligand \\\\$", text, re.M)
+    # every column would not fit: the estimate tells the two apart
+    wide = examples / "all.tex"
+    assert main(["columns", str(examples / "family.fasta"), "-o", str(wide), "--tex-columns", "all", "-q"]) == 0
+    assert tex_width_pt(wide.read_text()) > 2 * ARTICLE_TEXTWIDTH_PT
+    # chosen columns, and an unknown one: exit 2 naming the valid ones
+    assert main(["columns", str(examples / "family.fasta"), "--table", "tex", "--tex-columns",
+                 "frame_label,class,jsd", "-q"]) == 0
+    assert r"label & class & jsd \\" in capsys.readouterr().out
+    assert main(["columns", str(examples / "family.fasta"), "--table", "tex", "--tex-columns", "klass", "-q"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("globcons: error: --tex-columns: unknown column 'klass'; the table's columns are column, "
+                          "frame_label, sites, class,") and err.count("\n") == 1
+
+
+def test_only_classes_and_labels_keep_the_chosen_rows(examples, capsys):
+    # globcons columns family.fasta --only-classes invariant --only-labels E7,F8,A3 -o kept.tsv
+    out = examples / "kept.tsv"
+    assert main(["columns", str(examples / "family.fasta"), "--only-classes", "invariant", "--only-labels",
+                 "E7,F8,A3", "-o", str(out)]) == 0
+    err = capsys.readouterr().err
+    rows = [line.split("\t") for line in out.read_text().splitlines()]
+    assert [(r[1], r[3]) for r in rows[1:]] == [("E7", "invariant"), ("F8", "invariant")]  # A3 is variable
+    assert "156 columns: 30 invariant, 48 conservative, 72 variable, 6 gap-rich" in err  # the summary: all
+    assert "kept 2 of 156 columns in the table (classes invariant; labels E7, F8, A3)" in err
+    meta = (examples / "kept.tsv.meta.json").read_text()
+    assert '"only_labels": [\n   "E7",' in meta and '"rows": 2' in meta
+    # classes alone
+    assert main(["columns", str(examples / "family.fasta"), "--only-classes", "gap-rich,invariant", "-q"]) == 0
+    classes = [line.split("\t")[3] for line in capsys.readouterr().out.splitlines()[1:]]
+    assert len(classes) == 36 and set(classes) == {"invariant", "gap-rich"}
+
+
+@pytest.mark.parametrize(("option", "value", "message"), [
+    ("--only-classes", "invariant,invarient",
+     "globcons: error: --only-classes: unknown class 'invarient'; the classes are invariant, conservative, "
+     "variable, gap-rich"),
+    ("--only-labels", "f8",
+     "globcons: error: --only-labels: 'f8' is not a label of this table (labels are case-sensitive: F8); the "
+     "table's labels are NA2-NA3, A1-A16, AB1, B1-B16, C1-C7, CD1-CD8, D1-D7, E1-E20, EF1-EF8, F1-F9, FG1-FG5, "
+     "G1-G19, GH1-GH5, H1-H26, HC1-HC4"),
+    ("--only-labels", "ZZ9", "globcons: error: --only-labels: 'ZZ9' is not a frame label; the table's labels are "
+                             "NA2-NA3, A1-A16,"),
+    ("--only-labels", "F8,A20", "globcons: error: --only-labels: 'A20' is not a label of this table; the table's "
+                                "labels are NA2-NA3, A1-A16,"),
+])
+def test_unknown_class_or_label_is_exit_2_listing_the_valid_ones(examples, capsys, option, value, message):
+    # globcons columns family.fasta OPTION VALUE -q
+    assert main(["columns", str(examples / "family.fasta"), option, value, "-q"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith(message) and err.count("\n") == 1
+
+
+def test_report_keeps_the_chosen_rows_in_its_tables(examples):
+    # globcons report family.fasta -o kept-report --only-classes invariant --no-logos
+    out = examples / "kept-report"
+    assert main(["report", str(examples / "family.fasta"), "-o", str(out), "--only-classes", "invariant",
+                 "--no-logos", "-q"]) == 0
+    tsv = out.joinpath("columns.tsv").read_text().splitlines()
+    assert len(tsv) == 31 and all(line.split("\t")[3] == "invariant" for line in tsv[1:])
+    tex = out.joinpath("columns.tex").read_text()
+    assert sum(1 for line in tex.splitlines() if " & invariant & " in line) == 30 and " & variable & " not in tex
+    html = out.joinpath("report.html").read_text()
+    assert "It shows 30 of the 156 columns: classes invariant." in html
+    table = html.split('id="column-table"', 1)[1].split("</table>", 1)[0]
+    assert table.count('<td class="class-invariant">') == 30 and table.count("<tr>") == 31  # heading + 30 rows
+    assert "<b>72</b>variable" in html  # the summary still counts every column
+    assert main(["report", str(examples / "family.fasta"), "-o", str(out), "--only-labels", "Q1", "-q"]) == 2

@@ -511,7 +511,8 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
     pandas.DataFrame
         One row per column: ``column``, ``frame_label``, ``sites``, ``class``, ``contrast``, ``mi``,
         ``pvalue``, ``qvalue`` (``pvalue_permutation``, ``qvalue_permutation``), ``gap_fraction``, ``n_eff``,
-        then ``consensus_<group>`` and ``conservation_<group>`` per group; ``.attrs`` holds the groups, their sizes and the options.
+        then ``consensus_<group>`` and ``conservation_<group>`` per group; ``.attrs`` holds the groups, their
+        sizes and the options.
 
     Raises
     ------

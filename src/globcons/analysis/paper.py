@@ -27,14 +27,19 @@ __all__ = ["TEX_COLUMNS", "TEX_HEADERS", "keep_rows", "label_runs", "paper_table
 TEX_COLUMNS: tuple[str, ...] = ("column", "frame_label", "class", "support", "consensus", "conservation",
                                 "gap_fraction", "n_eff", "sites")
 #: Short headings of the LaTeX table (a name not listed keeps its own).
-TEX_HEADERS: dict[str, str] = {"column": "col.", "frame_label": "label", "consensus": "res.",
+TEX_HEADERS: dict[str, str] = {"column": "col.", "frame_label": "label", "support": "supp.", "consensus": "res.",
                                "conservation": "cons.", "gap_fraction": "gaps", "n_eff": "n_eff",
                                "ref_position": "ref.", "ref_residue": "ref. res.", "property_conservation": "prop.",
                                "entropy_bits": "H (bits)", "entropy_norm": "H norm.", "low_data": "low data"}
 #: Decimals of the LaTeX table's numbers (two for shares and scores, one for effective sequences).
 _TEX_DECIMALS: dict[str, int] = {"n_eff": 1}
 #: Width of the wrapped sites column of the LaTeX table.
-SITES_WIDTH = "3.2cm"
+SITES_WIDTH = "3cm"
+#: What the short headings mean, for the caption.
+_HEADER_WORDS: dict[str, str] = {"column": "alignment column", "frame_label": "globin helix label",
+                                 "support": "posterior support of the class", "consensus": "consensus residue",
+                                 "conservation": "conservation (gap-weighted)", "gap_fraction": "gap fraction",
+                                 "n_eff": "effective sequences", "ref_position": "position in the reference row"}
 
 
 def label_runs(labels: Iterable[str]) -> str:
@@ -162,6 +167,8 @@ def paper_table(table: pd.DataFrame, columns: Sequence[str] | None = None) -> pd
         out[TEX_HEADERS.get(name, name)] = column
     out.attrs = dict(table.attrs)
     out.attrs["tex_columns"] = chosen
+    out.attrs["tex_legend"] = "; ".join(f"{TEX_HEADERS[name]}: {_HEADER_WORDS[name]}" for name in chosen
+                                        if name in TEX_HEADERS and name in _HEADER_WORDS)
     return out
 
 
@@ -198,5 +205,7 @@ def write_column_table(table: pd.DataFrame, path: str | os.PathLike | None, fmt:
     if fmt != "tex":
         return write_table(table, path, fmt, metadata=table.attrs, inputs=inputs, caption=caption)
     paper = paper_table(table, tex_columns or None)
+    legend = paper.attrs["tex_legend"]
+    caption = f"{caption}. {legend}." if caption and legend else caption
     return write_table(paper, path, "tex", metadata=table.attrs, inputs=inputs, caption=caption,
                        tex_spec=tex_column_spec(paper, table))
