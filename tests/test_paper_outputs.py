@@ -277,4 +277,8 @@ def test_report_keeps_the_chosen_rows_in_its_tables(examples):
     table = html.split('id="column-table"', 1)[1].split("</table>", 1)[0]
     assert table.count('<td class="class-invariant">') == 30 and table.count("<tr>") == 31  # heading + 30 rows
     assert "<b>72</b>variable" in html  # the summary still counts every column
-    assert main(["report", str(examples / "family.fasta"), "-o", str(out), "--only-labels", "Q1", "-q"]) == 2
+    # bad names fail before anything is written into the folder
+    fresh = examples / "never-written"
+    for option, value in (("--only-labels", "Q1"), ("--tex-columns", "klass"), ("--only-classes", "open")):
+        assert main(["report", str(examples / "family.fasta"), "-o", str(fresh), option, value, "-q"]) == 2
+        assert not fresh.exists()

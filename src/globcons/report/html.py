@@ -32,7 +32,7 @@ from globcons._version import __version__
 from globcons.analysis.columns import score_columns
 from globcons.analysis.contrast import assign_groups, contrast_columns, top_contrast
 from globcons.analysis.options import ScoreOptions
-from globcons.analysis.paper import keep_rows, write_column_table
+from globcons.analysis.paper import keep_rows, paper_table, write_column_table
 from globcons.core.alignment import Alignment
 from globcons.core.labels import HELICES, segment_of
 from globcons.core.vocabulary import CAUTION, CONTRAST_CLASSES
@@ -259,6 +259,7 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     options = options or ScoreOptions()
     table = score_columns(aligned, options)
     shown = keep_rows(table, only_classes, only_labels)
+    paper_table(shown, list(tex_columns) if tex_columns else None)  # a bad --tex-columns fails before any file
     helices = _helices_of(table) if logos else []
     step = _Steps(progress, 4 + len(helices) + (1 if contrast else 0))
     step("scored the columns")
