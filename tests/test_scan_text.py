@@ -1,0 +1,100 @@
+"""The scan's text path (globcons.analysis.scan_text, ScanBatch texts) against the pandas path it replaced.
+
+The command line used to build a DataFrame per batch and write it with globcons.io.tables.format_table
+(pandas' csv writer); it now writes the batches' own text. Both must give the same bytes, so every check
+here renders the same batch both ways, on batches that mix placed and refused records, odd ids (quotes,
+commas, backslashes), both table formats and both families; and the files of the command line are
+compared with the pandas rendering of iter_scan's DataFrames, with either alignment kernel.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from globcons.align.anchor import map_columns
+from globcons.analysis.family import family_from_alignment
+from globcons.analysis.scan_text import cell_texts, delimited_text
+from globcons.analysis.scanning import RESIDUE_COLUMNS, SUMMARY_COLUMNS, header_text, iter_scan, iter_scan_batches
+from globcons.cli import main
+from globcons.demo import demo_alignment_path, demo_file
+from globcons.frame.reference import reference_chains
+from globcons.io.alignments import read_alignment
+from globcons.io.records import read_sequences, stream_records
+from globcons.io.tables import format_table
+
+ODD_RECORDS = [
+    ("empty", ""),
+    ("digits", "MVLS1GEW"),
+    ("nucleotide", "ACGTACGTACGTACGTACGTAC"),
+    ('"quoted",id\\x', reference_chains()[0].mature_sequence),
+    ("stop", reference_chains()[1].mature_sequence[:60] + "*" + reference_chains()[1].mature_sequence[61:]),
+    ("short", "MVLSEGEWQLV"),
+    ("tab\there", reference_chains()[2].full_sequence),
+]
+
+
+def records() -> list[tuple[str, str]]:
+    return ODD_RECORDS + [(r.id, r.sequence) for r in read_sequences(demo_file("demo_queries.fasta"))]
+
+
+@pytest.fixture(scope="module")
+def demo_family():
+    return family_from_alignment(read_alignment(demo_alignment_path()))
+
+
+@pytest.mark.parametrize("fmt", ["tsv", "csv"])
+@pytest.mark.parametrize("with_family", [False, True])
+def test_batch_text_is_what_pandas_writes(fmt, with_family, demo_family):
+    family = demo_family if with_family else None
+    batches = list(iter_scan_batches(records(), family, batch_size=4, shuffles=4))
+    assert len(batches) == 4
+    for batch in batches:
+        summary = format_table(batch.summary_frame(), fmt)
+        assert header_text(SUMMARY_COLUMNS, fmt) + batch.summary_text(fmt) == summary
+        residues = format_table(batch.residue_frame(), fmt)
+        assert header_text(RESIDUE_COLUMNS, fmt) + batch.residue_text(fmt) == residues
+    # the first batch holds only refused records: a summary of flags and an empty residue table
+    assert [row["flags"] for row in batches[0].rows] == ["empty", "invalid-characters", "nucleotide", ""]
+    # the odd id, escaped (tsv) or quoted (csv) as Python's csv module does
+    first = {"tsv": '\\"quoted\\",id\\\\x\t1\tV\t', "csv": '"""quoted"",id\\\\x",1,V,'}[fmt]
+    assert batches[0].residue_text(fmt).startswith(first)
+
+
+def test_cell_rules_follow_the_table_writer():
+    # The rules of globcons.io.tables: FLOAT_DIGITS = 4 decimals, no negative zero, NaN empty, yes/no.
+    assert cell_texts([3, 10]) == ["3", "10"]
+    assert cell_texts([70.6, -0.00001, float("nan"), 2]) == ["70.6000", "0.0000", "", "2.0000"]
+    assert cell_texts([True, False]) == ["yes", "no"]
+    assert cell_texts([70.6, "", 5]) == ["70.6000", "", "5"]  # a mixed column goes cell by cell
+    assert cell_texts([]) == []
+    assert delimited_text([["a\tb", "c"], ["1", "2"]], "tsv") == "a\\\tb\t1\nc\t2\n"
+    assert delimited_text([["a,b", 'q"'], ["1", "2"]], "csv") == '"a,b",1\n"q""",2\n'
+    with pytest.raises(ValueError, match="fmt must be one of tsv, csv"):
+        delimited_text([["a"]], "md")
+
+
+@pytest.mark.parametrize("kernel", ["numpy", "compiled"])
+def test_command_line_files_equal_the_pandas_rendering(tmp_path, monkeypatch, kernel):
+    if kernel == "compiled":
+        pytest.importorskip("numba", reason="numba is not installed: the compiled kernel is not there")
+    monkeypatch.setenv("GLOBCONS_DP_KERNEL", kernel)
+    fasta = tmp_path / "q.fasta"
+    fasta.write_text("".join(f">{identifier}\n{sequence}\n" for identifier, sequence in records()
+                             if "\t" not in identifier))
+    summary, residues = tmp_path / "s.csv", tmp_path / "r.tsv"
+    assert main(["scan", str(fasta), "--family", demo_alignment_path(), "-o", str(summary), "--residues",
+                 str(residues), "--jobs", "2", "--batch-size", "3", "--quiet"]) == 0
+    aligned = read_alignment(demo_alignment_path())
+    family = family_from_alignment(aligned, labels=map_columns(aligned).labels)  # as the command loads it
+    expected_summary, expected_residues = "", ""
+    frames = list(iter_scan(((r.id, r.sequence) for r in stream_records(str(fasta))), family, batch_size=3))
+    for index, (summary_frame, residue_frame) in enumerate(frames):
+        text = format_table(summary_frame, "csv")
+        expected_summary += text if index == 0 else text.split("\n", 1)[1]
+        text = format_table(residue_frame, "tsv")
+        expected_residues += text if index == 0 else text.split("\n", 1)[1]
+    assert summary.read_text() == expected_summary
+    assert residues.read_text() == expected_residues
+    assert len(summary.read_text().splitlines()) == 1 + len(records()) - 1
+    assert np.all([line.count("\t") == 7 for line in residues.read_text().splitlines()])
