@@ -61,6 +61,29 @@ def test_random_cases_identical(integer):
         assert_same(scores, gaps, queries)
 
 
+def test_many_queries_in_full_and_partial_groups_identical():
+    # 150 queries: two full groups of dp_compiled.LANES (64) and a partial one; lengths from 1 to 120.
+    rng = np.random.default_rng(64)
+    scores, gaps = random_case(rng, 30, integer=True)
+    queries = [rng.integers(0, N_CODES, int(n)).astype(np.uint8) for n in rng.integers(1, 121, 150)]
+    assert_same(scores, gaps, queries)
+
+
+def test_pointer_bound_narrows_the_groups_and_changes_nothing():
+    from globcons.align import dp_compiled
+
+    rng = np.random.default_rng(8)
+    m = 25
+    scores, gaps = random_case(rng, m, integer=False)
+    queries = [rng.integers(0, N_CODES, int(n)).astype(np.uint8) for n in rng.integers(20, 80, 70)]
+    reference = align(scores, gaps, queries, kernel="numpy")
+    for bound in (1, m * 81 * 3, m * 81 * dp_compiled.LANES):  # one query per group, three, a full group
+        narrow = align(scores, gaps, queries, kernel="compiled", max_pointer_bytes=bound)
+        for n, c in zip(reference, narrow, strict=True):
+            assert c.score == n.score and np.array_equal(c.column_of_residue, n.column_of_residue)
+            assert (c.query_start, c.profile_start) == (n.query_start, n.profile_start)
+
+
 @settings(max_examples=60, deadline=None)
 @given(m=st.integers(1, 20), seed=st.integers(0, 2**32 - 1),
        lengths=st.lists(st.integers(1, 25), min_size=1, max_size=20))

@@ -56,8 +56,8 @@ errors near 1e-4, not worth losing exact agreement between runs and references.
 Compiled kernels
 ----------------
 When numba is installed (``pip install 'globcons[fast]'``), :mod:`globcons.align.dp_compiled` holds the
-same recurrences compiled, bit for bit the same scores and tracebacks, four times faster for scores and
-seven for tracebacks. Loading them costs time (numba's import and its on-disk cache: about 0.8 s; the
+same recurrences compiled, the same scores and tracebacks, about twelve times faster for scores and five
+for tracebacks. Loading them costs time (numba's import and its on-disk cache: about 0.8 s; the
 first compilation on a machine, about 4 s, is cached), so a process uses the numpy path until its
 dynamic programming reaches :data:`COMPILED_AFTER_CELLS` cells (counting the call at hand) and the
 compiled kernels from then on: small runs never pay for the compiler, large ones pay once. The
@@ -548,7 +548,7 @@ def align(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[np.ndarr
     table = _table(scores)
     compiled = _kernel_for(kernel, sum(r.shape[0] for r in rows) * n_cols)
     if compiled is not None:
-        return _align_compiled(compiled, table, gaps, rows)
+        return _align_compiled(compiled, table, gaps, rows, int(max_pointer_bytes))
     lens = np.array([r.shape[0] for r in rows], dtype=np.int64)
     out: list[Placement | None] = [None] * len(rows)
     cells = max(1, min(int(chunk_cells), int(max_pointer_bytes) // n_cols))
@@ -567,14 +567,15 @@ def align(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[np.ndarr
     return out  # type: ignore[return-value]
 
 
-def _align_compiled(compiled: ModuleType, table: np.ndarray, gaps: GapCosts, rows: list[np.ndarray]) -> list[Placement]:
+def _align_compiled(compiled: ModuleType, table: np.ndarray, gaps: GapCosts, rows: list[np.ndarray],
+                    max_pointer_bytes: int) -> list[Placement]:
     """:func:`align` through the compiled traceback kernel."""
     codes, offsets, order = _packed(rows)
     best = np.empty(len(rows))
     columns = np.full(codes.shape[0], -1, dtype=np.int64)
     ends = np.empty((len(rows), 4), dtype=np.int64)
     compiled.traceback_kernel(table, gaps.open_delete, gaps.extend_delete, gaps.open_insert, gaps.extend_insert,
-                              codes, offsets, order, best, columns, ends)
+                              codes, offsets, order, max_pointer_bytes, best, columns, ends)
     per_query = np.split(columns, offsets[1:-1])
     return [Placement(score, column, q_start, q_end, p_start, p_end)
             for score, column, (q_start, q_end, p_start, p_end) in zip(best.tolist(), per_query, ends.tolist(),
