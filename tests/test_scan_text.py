@@ -9,12 +9,15 @@ compared with the pandas rendering of iter_scan's DataFrames, with either alignm
 
 from __future__ import annotations
 
+import csv
+import io
+
 import numpy as np
 import pytest
 
 from globcons.align.anchor import map_columns
 from globcons.analysis.family import family_from_alignment
-from globcons.analysis.scan_text import cell_texts, delimited_text
+from globcons.analysis.scan_text import cell_texts, delimited_text, number_texts
 from globcons.analysis.scanning import RESIDUE_COLUMNS, SUMMARY_COLUMNS, header_text, iter_scan, iter_scan_batches
 from globcons.cli import main
 from globcons.demo import demo_alignment_path, demo_file
@@ -72,6 +75,31 @@ def test_cell_rules_follow_the_table_writer():
     assert delimited_text([["a,b", 'q"'], ["1", "2"]], "csv") == '"a,b",1\n"q""",2\n'
     with pytest.raises(ValueError, match="fmt must be one of tsv, csv"):
         delimited_text([["a"]], "md")
+
+
+@pytest.mark.parametrize("fmt", ["tsv", "csv"])
+def test_direct_join_equals_the_csv_module(fmt):
+    # Reference: Python's csv module with the dialect pandas is given in globcons.io.tables.
+    rng = np.random.default_rng(4)
+    alphabet = list("AB1:. ") + ["\t", ",", '"', "\\", "\n", "\r"]
+    for trial in range(300):
+        n_rows, n_cols = int(rng.integers(1, 5)), int(rng.integers(1, 4))
+        plain = trial % 2 == 0  # half the cases without any special character: the direct join
+        letters = alphabet[:6] if plain else alphabet
+        columns = [["".join(rng.choice(letters, int(rng.integers(0, 4)))) for _ in range(n_rows)]
+                   for _ in range(n_cols)]
+        buffer = io.StringIO()
+        sep = {"tsv": "\t", "csv": ","}[fmt]
+        try:
+            csv.writer(buffer, delimiter=sep, quoting=csv.QUOTE_MINIMAL if fmt == "csv" else csv.QUOTE_NONE,
+                       escapechar="\\", lineterminator="\n").writerows(zip(*columns, strict=True))
+        except csv.Error:  # a lone empty cell cannot be written unquoted in tsv
+            with pytest.raises(csv.Error):
+                delimited_text(columns, fmt)
+            continue
+        assert delimited_text(columns, fmt) == buffer.getvalue()
+    assert number_texts(np.array([0, 7, 12])).tolist() == ["0", "7", "12"]
+    assert number_texts(np.array([0, 7, 100000]), zero="").tolist() == ["", "7", "100000"]
 
 
 @pytest.mark.parametrize("kernel", ["numpy", "compiled"])

@@ -19,7 +19,7 @@ import numpy as np
 
 from globcons.io.tables import FLOAT_DIGITS, text_cell
 
-__all__ = ["DELIMITED_FORMATS", "cell_texts", "delimited_text"]
+__all__ = ["DELIMITED_FORMATS", "cell_texts", "delimited_text", "number_texts"]
 
 #: Table formats written without pandas, with their separator.
 DELIMITED_FORMATS = {"tsv": "\t", "csv": ","}
@@ -44,14 +44,43 @@ def cell_texts(values: Sequence[object]) -> list[str]:
     return [text_cell(v) for v in values]
 
 
+_NUMBERS = {"texts": np.array(["0"], dtype=object)}
+
+
+def number_texts(values: np.ndarray, zero: str = "0") -> np.ndarray:
+    """Whole numbers ``0 <= v`` as text, by look-up (object array); ``zero`` is the text of 0."""
+    top = int(values.max(initial=0))
+    table = _NUMBERS["texts"]
+    if top >= table.shape[0]:
+        table = np.array([str(v) for v in range(max(top + 1, 2 * table.shape[0]))], dtype=object)
+        _NUMBERS["texts"] = table
+    texts = table[values]
+    if zero != "0":
+        texts[values == 0] = zero
+    return texts
+
+
+#: Characters after which a cell is no longer written as it is (escaped, or quoted in csv).
+_SPECIAL = ('"', "\\", "\r")
+
+
 def delimited_text(columns: Sequence[Sequence[str]], fmt: str) -> str:
     """Rows of the given text columns (equal lengths), one line each, as ``fmt`` (tsv or csv) writes them.
 
-    The header is a row like any other: pass ``[[name] for name in names]`` for it.
+    The header is a row like any other: pass ``[[name] for name in names]`` for it. Rows are joined
+    directly when no cell holds a separator, quote, backslash or line end (checked on the result: the
+    separators and line ends must number exactly what the rows and columns make); otherwise the csv
+    module writes them, escaping or quoting as its dialect says.
     """
     if fmt not in DELIMITED_FORMATS:
         raise ValueError(f"fmt must be one of {', '.join(DELIMITED_FORMATS)}, got {fmt!r}")
     sep = DELIMITED_FORMATS[fmt]
+    n_rows = len(columns[0]) if columns else 0
+    if len(columns) > 1 and n_rows:
+        text = "\n".join(map(sep.join, zip(*columns, strict=True))) + "\n"
+        if (text.count(sep) == n_rows * (len(columns) - 1) and text.count("\n") == n_rows
+                and not any(c in text for c in _SPECIAL)):
+            return text
     buffer = io.StringIO()
     writer = csv.writer(buffer, delimiter=sep, quoting=csv.QUOTE_MINIMAL if sep == "," else csv.QUOTE_NONE,
                         escapechar="\\", lineterminator="\n")

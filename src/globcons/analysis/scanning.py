@@ -42,7 +42,7 @@ from globcons.align.placement import PlacedSequence, frame_labels, place_many
 from globcons.align.scoring_profile import frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.analysis.family import Family, frame_family
-from globcons.analysis.scan_text import cell_texts, delimited_text
+from globcons.analysis.scan_text import cell_texts, delimited_text, number_texts
 from globcons.core.alphabet import N_RESIDUES, N_STANDARD, encode, looks_like_nucleotide
 from globcons.core.labels import HELICES
 from globcons.core.matrices import compatible_pairs
@@ -324,12 +324,10 @@ class ScanBatch:
         """The per-residue rows as ``fmt`` (tsv or csv) lines, no header."""
         if self.residues is None:
             raise ValueError("this batch has no per-residue table")
-        table = self.residues
-        column = table["column"]
-        texts = [table[name].tolist() for name in RESIDUE_COLUMNS]
-        texts[RESIDUE_COLUMNS.index("position")] = list(map(str, table["position"].tolist()))
-        texts[RESIDUE_COLUMNS.index("column")] = np.where(column > 0, column.astype(str), "").tolist()
-        return delimited_text(texts, fmt)
+        table = dict(self.residues)
+        table["position"] = number_texts(table["position"])
+        table["column"] = number_texts(table["column"], zero="")  # no column: an empty cell
+        return delimited_text([table[name].tolist() for name in RESIDUE_COLUMNS], fmt)
 
     def rendered(self, summary_format: str, residue_format: str | None, keep_residues: bool = False) -> ScanBatch:
         """This batch with :attr:`texts` filled (the per-residue one when ``residue_format`` is given), keeping
