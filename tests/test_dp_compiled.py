@@ -192,3 +192,16 @@ def test_compiled_without_numba_says_how_to_get_it(monkeypatch):
     monkeypatch.setattr(dp, "COMPILED_AFTER_CELLS", 1)
     monkeypatch.delenv(dp.KERNEL_ENVIRONMENT, raising=False)
     assert dp._kernel_for("auto", 10) is None  # auto falls back to numpy
+
+
+def test_prepare_kernels_loads_them_only_for_enough_work(monkeypatch):
+    monkeypatch.delenv(dp.KERNEL_ENVIRONMENT, raising=False)
+    monkeypatch.setattr(dp, "_DP_CELLS", {"numpy": 0, "switched": 0})
+    assert dp.prepare_kernels(dp.COMPILED_AFTER_CELLS - 1) is False  # a small run: nothing loaded
+    assert dp._kernel_for("auto", 10) is None
+    monkeypatch.setenv(dp.KERNEL_ENVIRONMENT, "numpy")
+    assert dp.prepare_kernels(10**12) is False  # the numpy path forced
+    monkeypatch.delenv(dp.KERNEL_ENVIRONMENT)
+    assert dp.prepare_kernels(dp.COMPILED_AFTER_CELLS) is True
+    assert dp._kernel_for("auto", 10) is dp.compiled_kernels()  # from now on, whatever the size
+    assert dp._DP_CELLS["numpy"] == 10  # only the work done is counted, not the work announced

@@ -91,6 +91,7 @@ __all__ = [
     "KERNEL_ENVIRONMENT",
     "COMPILED_AFTER_CELLS",
     "compiled_kernels",
+    "prepare_kernels",
 ]
 
 #: Cells (queries x padded length) of one batch in :func:`align_scores` and :func:`align`: large
@@ -421,6 +422,29 @@ def _kernel_for(kernel: str, cells: int) -> ModuleType | None:
     elif kernel == "auto":
         _DP_CELLS["switched"] = 1
     return module
+
+
+def prepare_kernels(expected_cells: int) -> bool:
+    """Load the compiled kernels now if the work ahead (``expected_cells`` cells) will use them.
+
+    Applies the rule of ``kernel="auto"`` (see the module notes) to the work a caller knows is coming,
+    without counting it as done: when it reaches :data:`COMPILED_AFTER_CELLS` (and numba is installed),
+    both kernels are compiled or loaded from the cache and every later ``auto`` call uses them, so worker
+    processes forked afterwards share them instead of each paying for the numpy path first and then the
+    loading. Returns whether the compiled kernels are in use.
+    """
+    if _DP_CELLS["switched"]:
+        return True
+    if os.environ.get(KERNEL_ENVIRONMENT, "") == "numpy" or _DP_CELLS["numpy"] + expected_cells < COMPILED_AFTER_CELLS:
+        return False
+    if compiled_kernels() is None:
+        return False
+    # One tiny call of each kernel, with the argument types of real calls (read-only gap costs).
+    scores, gaps, query = np.zeros((2, 2)), GapCosts.constant(2, 1.0, 1.0), [np.zeros(2, dtype=np.uint8)]
+    align_scores(scores, gaps, query, kernel="compiled")
+    align(scores, gaps, query, kernel="compiled")
+    _DP_CELLS["switched"] = 1
+    return True
 
 
 def _packed(rows: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -27,6 +27,7 @@ when the position is not covered. Flags (``flags``, comma-separated) are documen
 
 from __future__ import annotations
 
+import itertools
 import os
 import re
 from collections.abc import Iterable, Iterator, Sequence
@@ -36,7 +37,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from globcons.align.dp import align
+from globcons.align.dp import align, prepare_kernels
 from globcons.align.frame_columns import reference_alignment
 from globcons.align.placement import PlacedSequence, frame_labels, place_many
 from globcons.align.scoring_profile import frame_profile, query_codes
@@ -429,8 +430,15 @@ def iter_scan_batches(records: Iterable[tuple[str, str]], family: Family | None 
     if jobs < 1:
         raise OptionError(f"--jobs must be at least 1, got {jobs}")
     family = family or frame_family()
-    frame_profile()  # build the caches once, before any worker forks
+    frame = frame_profile()  # build the caches once, before any worker forks
     batches = _chunks(records, batch_size)
+    # A look at the first batches: if they alone make enough alignment work, load the compiled kernels
+    # now (before the workers fork, so they share them) rather than after a first stretch on numpy.
+    ahead = list(itertools.islice(batches, 2 * jobs))
+    alignments = shuffles + 1 + (family.profile is not None)  # per query: shuffles, frame, family profile
+    residues_ahead = sum(len(sequence) for batch in ahead for _, sequence in batch)
+    prepare_kernels(residues_ahead * alignments * max(frame.n_columns, family.n_columns))
+    batches = itertools.chain(ahead, batches)
     if jobs == 1:
         for batch in batches:
             yield _finished(_scan_batch(batch, family, residues, shuffles), render)
