@@ -17,6 +17,7 @@ from hypothesis import strategies as st
 from globcons.align import dp
 from globcons.align.dp import GapCosts, align, align_scores
 from globcons.core.alphabet import N_CODES
+from globcons.errors import OptionError
 
 pytest.importorskip("numba", reason="numba is not installed (pip install 'globcons[fast]'): only the numpy path "
                                     "is there to test")
@@ -178,7 +179,7 @@ def test_environment_forces_a_kernel_and_bad_names_are_refused(monkeypatch):
     assert dp._kernel_for("auto", 10**12) is None
     assert dp._kernel_for("compiled", 1) is dp.compiled_kernels()  # an explicit argument wins
     monkeypatch.setenv(dp.KERNEL_ENVIRONMENT, "fastest")
-    with pytest.raises(ValueError, match="GLOBCONS_DP_KERNEL must be one of auto, numpy, compiled"):
+    with pytest.raises(OptionError, match="GLOBCONS_DP_KERNEL must be one of auto, numpy, compiled"):
         dp._kernel_for("auto", 1)
     with pytest.raises(ValueError, match="kernel must be one of"):
         align_scores(np.zeros((2, N_CODES)), GapCosts.constant(2, 3.0, 1.0), [np.zeros(3, np.uint8)], kernel="gpu")
@@ -186,7 +187,7 @@ def test_environment_forces_a_kernel_and_bad_names_are_refused(monkeypatch):
 
 def test_compiled_without_numba_says_how_to_get_it(monkeypatch):
     monkeypatch.setattr(dp, "compiled_kernels", lambda: None)
-    with pytest.raises(ImportError, match=r"pip install 'globcons\[fast\]'"):
+    with pytest.raises(OptionError, match=r"need numba: pip install 'globcons\[fast\]'"):
         dp._kernel_for("compiled", 1)
     monkeypatch.setattr(dp, "_DP_CELLS", {"numpy": 0, "switched": 0})
     monkeypatch.setattr(dp, "COMPILED_AFTER_CELLS", 1)

@@ -80,6 +80,8 @@ from types import ModuleType
 
 import numpy as np
 
+from globcons.errors import OptionError
+
 __all__ = [
     "GapCosts",
     "Placement",
@@ -411,13 +413,14 @@ def _kernel_for(kernel: str, cells: int) -> ModuleType | None:
     if kernel == "auto":
         kernel = os.environ.get(KERNEL_ENVIRONMENT, "") or "auto"
         if kernel not in KERNELS:
-            raise ValueError(f"{KERNEL_ENVIRONMENT} must be one of {', '.join(KERNELS)}, got {kernel!r}")
+            raise OptionError(f"{KERNEL_ENVIRONMENT} must be one of {', '.join(KERNELS)}, got {kernel!r}")
     if kernel == "auto" and not _DP_CELLS["switched"] and _DP_CELLS["numpy"] + cells < COMPILED_AFTER_CELLS:
         kernel = "numpy"
     module = None if kernel == "numpy" else compiled_kernels()
     if module is None:
         if kernel == "compiled":
-            raise ImportError("the compiled kernels need numba: pip install 'globcons[fast]'")
+            raise OptionError("the compiled alignment kernels need numba: pip install 'globcons[fast]' (or set "
+                              f"{KERNEL_ENVIRONMENT}=numpy)")
         _DP_CELLS["numpy"] += cells
     elif kernel == "auto":
         _DP_CELLS["switched"] = 1
