@@ -11,6 +11,9 @@ from __future__ import annotations
 
 import csv
 import io
+import os
+import subprocess
+import sys
 
 import numpy as np
 import pytest
@@ -126,3 +129,14 @@ def test_command_line_files_equal_the_pandas_rendering(tmp_path, monkeypatch, ke
     assert residues.read_text() == expected_residues
     assert len(summary.read_text().splitlines()) == 1 + len(records()) - 1
     assert np.all([line.count("\t") == 7 for line in residues.read_text().splitlines()])
+
+
+def test_a_small_scan_does_not_load_the_compiler(tmp_path):
+    # The demo's six queries are far below dp.COMPILED_AFTER_CELLS: numba must not even be imported.
+    queries, summary = str(demo_file("demo_queries.fasta")), str(tmp_path / "s.tsv")
+    script = ("import sys\nfrom globcons.cli import main\n"
+              f"main(['scan', {queries!r}, '-o', {summary!r}, '--quiet'])\nprint('numba' in sys.modules)")
+    env = {k: v for k, v in os.environ.items() if k != "GLOBCONS_DP_KERNEL"}
+    result = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, env=env, check=True)
+    assert result.stdout.strip() == "False"
+    assert len((tmp_path / "s.tsv").read_text().splitlines()) == 7
