@@ -397,7 +397,7 @@ def compiled_kernels() -> ModuleType | None:
     """The compiled kernels (:mod:`globcons.align.dp_compiled`), or None when numba is not installed."""
     try:
         import globcons.align.dp_compiled as dp_compiled  # imports numba
-    except ImportError:
+    except (ImportError, RuntimeError):  # no numba, or numba unusable here (e.g. no place for its cache)
         return None
     return dp_compiled
 

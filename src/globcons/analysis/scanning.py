@@ -37,7 +37,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from globcons.align.dp import align, prepare_kernels
+from globcons.align.dp import COMPILED_AFTER_CELLS, align, prepare_kernels
 from globcons.align.frame_columns import reference_alignment
 from globcons.align.placement import PlacedSequence, frame_labels, place_many
 from globcons.align.scoring_profile import frame_profile, query_codes
@@ -367,8 +367,10 @@ def _scan_batch(records: list[tuple[str, str]], family: Family, want_residues: b
 _WORKER_STATE: dict[str, object] = {}
 
 
-def _init_worker(family: Family, want_residues: bool, shuffles: int, render: tuple | None) -> None:
+def _init_worker(family: Family, want_residues: bool, shuffles: int, render: tuple | None, compiled: bool) -> None:
     _WORKER_STATE.update(family=family, want_residues=want_residues, shuffles=shuffles, render=render)
+    if compiled:  # forked workers have the parent's kernels already; started ones load them here
+        prepare_kernels(COMPILED_AFTER_CELLS)
 
 
 def _finished(batch: ScanBatch, render: tuple | None) -> ScanBatch:
@@ -437,14 +439,14 @@ def iter_scan_batches(records: Iterable[tuple[str, str]], family: Family | None 
     ahead = list(itertools.islice(batches, 2 * jobs))
     alignments = shuffles + 1 + (family.profile is not None)  # per query: shuffles, frame, family profile
     residues_ahead = sum(len(sequence) for batch in ahead for _, sequence in batch)
-    prepare_kernels(residues_ahead * alignments * max(frame.n_columns, family.n_columns))
+    compiled = prepare_kernels(residues_ahead * alignments * max(frame.n_columns, family.n_columns))
     batches = itertools.chain(ahead, batches)
     if jobs == 1:
         for batch in batches:
             yield _finished(_scan_batch(batch, family, residues, shuffles), render)
         return
     with ProcessPoolExecutor(max_workers=jobs, initializer=_init_worker,
-                             initargs=(family, residues, shuffles, render)) as pool:
+                             initargs=(family, residues, shuffles, render, compiled)) as pool:
         pending = []
         for batch in batches:
             pending.append(pool.submit(_worker, batch))
