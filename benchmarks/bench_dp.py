@@ -4,9 +4,11 @@ A random profile of M columns (scores drawn around a random consensus, position-
 and N random queries whose lengths are drawn around a mean length: half are mutated copies of the
 consensus with random insertions and deletions, half are shuffled residues (as significance
 estimates would score). Everything comes from a fixed seed; no real data. Prints the time of
-``align_scores`` (scores only) and ``align`` (with traceback), and their agreement. Usage:
+``align_scores`` (scores only) and ``align`` (with traceback) for the numpy path and the compiled kernels
+(numba, when installed; their loading is not timed), and their agreement. Usage:
 
     python benchmarks/bench_dp.py [--queries 10000] [--columns 155] [--length 150] [--chunk-cells N]
+                                  [--kernel numpy,compiled]
 """
 
 from __future__ import annotations
@@ -17,7 +19,7 @@ import time
 
 import numpy as np
 
-from globcons.align.dp import SCORE_CHUNK_CELLS, GapCosts, align, align_scores
+from globcons.align.dp import SCORE_CHUNK_CELLS, GapCosts, align, align_scores, compiled_kernels
 
 N_CODES = 24
 
@@ -59,6 +61,7 @@ def main() -> None:
     parser.add_argument("--length", type=int, default=150)
     parser.add_argument("--chunk-cells", type=int, default=SCORE_CHUNK_CELLS)
     parser.add_argument("--seed", type=int, default=7)
+    parser.add_argument("--kernel", default="numpy,compiled", help="kernels to time, comma-separated")
     args = parser.parse_args()
 
     rng = np.random.default_rng(args.seed)
@@ -71,16 +74,27 @@ def main() -> None:
     print(f"{args.queries} queries (mean length {mean:.1f}) x {args.columns} columns"
           f" = {cells / 1e6:.1f} M cells")
 
-    t0 = time.perf_counter()
-    fast = align_scores(scores, gaps, queries, chunk_cells=args.chunk_cells)
-    t1 = time.perf_counter()
-    placed = align(scores, gaps, queries)
-    t2 = time.perf_counter()
-    agree = np.array_equal(fast, np.array([p.score for p in placed]))
-    print(f"align_scores: {t1 - t0:7.2f} s  ({(t1 - t0) / cells * 1e9:.2f} ns/cell)")
-    print(f"align:        {t2 - t1:7.2f} s  ({(t2 - t1) / cells * 1e9:.2f} ns/cell)")
-    print(f"align scores identical to align_scores: {agree}")
-
+    kernels = [k for k in args.kernel.split(",") if k != "compiled" or compiled_kernels() is not None]
+    if kernels != args.kernel.split(","):
+        print("numba is not installed (pip install 'globcons[fast]'): numpy path only")
+    first = None
+    for kernel in kernels:
+        align_scores(scores, gaps, queries[:2], kernel=kernel)  # compiled: loaded outside the timing
+        align(scores, gaps, queries[:2], kernel=kernel)
+        t0 = time.perf_counter()
+        fast = align_scores(scores, gaps, queries, chunk_cells=args.chunk_cells, kernel=kernel)
+        t1 = time.perf_counter()
+        placed = align(scores, gaps, queries, kernel=kernel)
+        t2 = time.perf_counter()
+        agree = np.array_equal(fast, np.array([p.score for p in placed]))
+        print(f"{kernel}: align_scores {t1 - t0:7.2f} s ({(t1 - t0) / cells * 1e9:.2f} ns/cell), "
+              f"align {t2 - t1:7.2f} s ({(t2 - t1) / cells * 1e9:.2f} ns/cell); scores agree: {agree}")
+        if first is None:
+            first = (fast, placed)
+        else:
+            same = np.array_equal(first[0], fast) and all(
+                np.array_equal(a.column_of_residue, b.column_of_residue) for a, b in zip(first[1], placed, strict=True))
+            print(f"identical to {kernels[0]}: {same}")
 
 if __name__ == "__main__":
     main()

@@ -53,6 +53,17 @@ operation is elementwise per query, so results do not depend on the batch a quer
 arithmetic is ``float64`` throughout: ``float32`` was measured only about 20% faster, with score
 errors near 1e-4, not worth losing exact agreement between runs and references.
 
+Compiled kernels
+----------------
+When numba is installed (``pip install 'globcons[fast]'``), :mod:`globcons.align.dp_compiled` holds the
+same recurrences compiled, the same scores and tracebacks, about twelve times faster for scores and five
+for tracebacks. Loading them costs time (numba's import and its on-disk cache: about 0.8 s; the
+first compilation on a machine, about 4 s, is cached), so a process uses the numpy path until its
+dynamic programming reaches :data:`COMPILED_AFTER_CELLS` cells (counting the call at hand) and the
+compiled kernels from then on: small runs never pay for the compiler, large ones pay once. The
+``kernel`` argument, or the environment variable ``GLOBCONS_DP_KERNEL`` (``numpy``, ``compiled``,
+``auto``), forces a choice (benchmarks and tests).
+
 Tie rule of the traceback (deterministic): the end is the maximal ``M`` cell of lowest column, then
 lowest query position; a match's predecessor is chosen ``M`` over ``I`` over ``D``, and the free
 start is taken when no predecessor is positive (so a prefix scoring exactly 0 is dropped); a gap is
@@ -61,10 +72,15 @@ opened rather than extended on equal scores (the shorter gap).
 
 from __future__ import annotations
 
+import functools
+import os
 from collections.abc import Sequence
 from dataclasses import dataclass
+from types import ModuleType
 
 import numpy as np
+
+from globcons.errors import OptionError
 
 __all__ = [
     "GapCosts",
@@ -73,6 +89,11 @@ __all__ = [
     "align",
     "SCORE_CHUNK_CELLS",
     "MAX_POINTER_BYTES",
+    "KERNELS",
+    "KERNEL_ENVIRONMENT",
+    "COMPILED_AFTER_CELLS",
+    "compiled_kernels",
+    "prepare_kernels",
 ]
 
 #: Cells (queries x padded length) of one batch in :func:`align_scores` and :func:`align`: large
@@ -81,6 +102,13 @@ __all__ = [
 SCORE_CHUNK_CELLS = 1 << 15
 #: Upper bound of the traceback pointer memory of one batch in :func:`align` (one byte per cell).
 MAX_POINTER_BYTES = 128 * 2**20
+#: Choices of the ``kernel`` argument: ``auto`` (see the module notes), ``numpy``, ``compiled`` (numba).
+KERNELS = ("auto", "numpy", "compiled")
+#: The environment variable that overrides ``kernel="auto"``.
+KERNEL_ENVIRONMENT = "GLOBCONS_DP_KERNEL"
+#: Cells (query residues x profile columns) of a process's dynamic programming from which ``auto`` uses
+#: the compiled kernels: about a second of the numpy path, the cost of loading them from numba's cache.
+COMPILED_AFTER_CELLS = 1 << 27
 
 # Traceback pointer bits (one uint8 per cell): bits 0-1 say where a match came from, bit 2 whether an
 # insertion was opened from a match, bit 3 whether a deletion was opened from a match (_forward sets
@@ -364,6 +392,72 @@ def _forward(table: np.ndarray, gaps: GapCosts, codes: np.ndarray,
     return best, end_i, end_j
 
 
+@functools.cache
+def compiled_kernels() -> ModuleType | None:
+    """The compiled kernels (:mod:`globcons.align.dp_compiled`), or None when numba is not installed."""
+    try:
+        import globcons.align.dp_compiled as dp_compiled  # imports numba
+    except (ImportError, RuntimeError):  # no numba, or numba unusable here (e.g. no place for its cache)
+        return None
+    return dp_compiled
+
+
+# This process's dynamic programming so far: cells on the numpy path, and whether auto has switched.
+_DP_CELLS = {"numpy": 0, "switched": 0}
+
+
+def _kernel_for(kernel: str, cells: int) -> ModuleType | None:
+    """The compiled kernels if this call uses them, else None (the numpy path); see the module notes."""
+    if kernel not in KERNELS:
+        raise ValueError(f"kernel must be one of {', '.join(KERNELS)}, got {kernel!r}")
+    if kernel == "auto":
+        kernel = os.environ.get(KERNEL_ENVIRONMENT, "") or "auto"
+        if kernel not in KERNELS:
+            raise OptionError(f"{KERNEL_ENVIRONMENT} must be one of {', '.join(KERNELS)}, got {kernel!r}")
+    if kernel == "auto" and not _DP_CELLS["switched"] and _DP_CELLS["numpy"] + cells < COMPILED_AFTER_CELLS:
+        kernel = "numpy"
+    module = None if kernel == "numpy" else compiled_kernels()
+    if module is None:
+        if kernel == "compiled":
+            raise OptionError("the compiled alignment kernels need numba: pip install 'globcons[fast]' (or set "
+                              f"{KERNEL_ENVIRONMENT}=numpy)")
+        _DP_CELLS["numpy"] += cells
+    elif kernel == "auto":
+        _DP_CELLS["switched"] = 1
+    return module
+
+
+def prepare_kernels(expected_cells: int) -> bool:
+    """Load the compiled kernels now if the work ahead (``expected_cells`` cells) will use them.
+
+    Applies the rule of ``kernel="auto"`` (see the module notes) to the work a caller knows is coming,
+    without counting it as done: when it reaches :data:`COMPILED_AFTER_CELLS` (and numba is installed),
+    both kernels are compiled or loaded from the cache and every later ``auto`` call uses them, so worker
+    processes forked afterwards share them instead of each paying for the numpy path first and then the
+    loading. Returns whether the compiled kernels are in use.
+    """
+    if _DP_CELLS["switched"]:
+        return True
+    if os.environ.get(KERNEL_ENVIRONMENT, "") == "numpy" or _DP_CELLS["numpy"] + expected_cells < COMPILED_AFTER_CELLS:
+        return False
+    if compiled_kernels() is None:
+        return False
+    # One tiny call of each kernel, with the argument types of real calls (read-only gap costs).
+    scores, gaps, query = np.zeros((2, 2)), GapCosts.constant(2, 1.0, 1.0), [np.zeros(2, dtype=np.uint8)]
+    align_scores(scores, gaps, query, kernel="compiled")
+    align(scores, gaps, query, kernel="compiled")
+    _DP_CELLS["switched"] = 1
+    return True
+
+
+def _packed(rows: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The queries end to end: codes, offsets (N + 1,) and the order longest first (as ``_batches``)."""
+    lengths = np.fromiter((r.shape[0] for r in rows), dtype=np.int64, count=len(rows))
+    offsets = np.zeros(len(rows) + 1, dtype=np.int64)
+    np.cumsum(lengths, out=offsets[1:])
+    return np.concatenate(rows), offsets, np.argsort(-lengths, kind="stable")
+
+
 def _table(scores: np.ndarray) -> np.ndarray:
     table = np.empty((scores.shape[0], scores.shape[1] + 1))
     table[:, :-1] = scores
@@ -373,7 +467,7 @@ def _table(scores: np.ndarray) -> np.ndarray:
 
 def align_scores(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[np.ndarray] | np.ndarray,
                  lengths: Sequence[int] | np.ndarray | None = None, *,
-                 chunk_cells: int = SCORE_CHUNK_CELLS) -> np.ndarray:
+                 chunk_cells: int = SCORE_CHUNK_CELLS, kernel: str = "auto") -> np.ndarray:
     """Best glocal alignment score of every query against the profile, without traceback.
 
     Parameters
@@ -388,7 +482,10 @@ def align_scores(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[n
     lengths
         ``int``, shape (N,): the length of each row of a padded 2-D ``queries`` (default: W).
     chunk_cells
-        Padded cells (queries x length) handled per batch; affects speed only.
+        Padded cells (queries x length) handled per batch by the numpy path; affects speed only.
+    kernel
+        One of :data:`KERNELS`: the numpy path, the compiled one, or the choice of the module notes.
+        Both give identical scores.
 
     Returns
     -------
@@ -401,6 +498,12 @@ def align_scores(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[n
     if not rows:
         return out
     table = _table(scores)
+    compiled = _kernel_for(kernel, sum(r.shape[0] for r in rows) * scores.shape[0])
+    if compiled is not None:
+        codes, offsets, order = _packed(rows)
+        compiled.scores_kernel(table, gaps.open_delete, gaps.extend_delete, gaps.open_insert, gaps.extend_insert,
+                               codes, offsets, order, out)
+        return out
     lens = np.array([r.shape[0] for r in rows], dtype=np.int64)
     for members in _batches(lens, max(1, int(chunk_cells))):
         codes = _pad(rows, members, scores.shape[1])
@@ -433,7 +536,7 @@ def _traceback(ptr: bytes, stride: int, n: int, end_i: int, end_j: int) -> tuple
 def align(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[np.ndarray] | np.ndarray,
           lengths: Sequence[int] | np.ndarray | None = None, *,
           chunk_cells: int = SCORE_CHUNK_CELLS,
-          max_pointer_bytes: int = MAX_POINTER_BYTES) -> list[Placement]:
+          max_pointer_bytes: int = MAX_POINTER_BYTES, kernel: str = "auto") -> list[Placement]:
     """Best glocal alignment of every query against the profile, with the residue-to-column placement.
 
     Parameters
@@ -453,7 +556,10 @@ def align(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[np.ndarr
         Bound on the traceback pointers of one batch, ``M`` bytes per padded cell (so a batch holds
         at most ``min(chunk_cells, max_pointer_bytes // M)`` cells, and at least one query, which may
         exceed the bound alone); the traceback briefly holds a per-query copy too, so the peak is
-        twice this. Affects memory and speed only.
+        twice this. Affects memory and speed only (numpy path; the compiled one holds ``M`` bytes
+        per cell of :data:`~globcons.align.dp_compiled.LANES` queries at a time).
+    kernel
+        One of :data:`KERNELS` (see :func:`align_scores`); both give identical placements.
 
     Returns
     -------
@@ -467,6 +573,9 @@ def align(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[np.ndarr
         return []
     n_cols = scores.shape[0]
     table = _table(scores)
+    compiled = _kernel_for(kernel, sum(r.shape[0] for r in rows) * n_cols)
+    if compiled is not None:
+        return _align_compiled(compiled, table, gaps, rows, int(max_pointer_bytes))
     lens = np.array([r.shape[0] for r in rows], dtype=np.int64)
     out: list[Placement | None] = [None] * len(rows)
     cells = max(1, min(int(chunk_cells), int(max_pointer_bytes) // n_cols))
@@ -483,3 +592,18 @@ def align(profile_scores: np.ndarray, gaps: GapCosts, queries: Sequence[np.ndarr
             column, q_start, p_start = _traceback(ptr, stride, int(lens[r]), int(end_i[b]), int(end_j[b]))
             out[r] = Placement(float(best[b]), column, q_start, int(end_i[b]), p_start, int(end_j[b]) + 1)
     return out  # type: ignore[return-value]
+
+
+def _align_compiled(compiled: ModuleType, table: np.ndarray, gaps: GapCosts, rows: list[np.ndarray],
+                    max_pointer_bytes: int) -> list[Placement]:
+    """:func:`align` through the compiled traceback kernel."""
+    codes, offsets, order = _packed(rows)
+    best = np.empty(len(rows))
+    columns = np.full(codes.shape[0], -1, dtype=np.int64)
+    ends = np.empty((len(rows), 4), dtype=np.int64)
+    compiled.traceback_kernel(table, gaps.open_delete, gaps.extend_delete, gaps.open_insert, gaps.extend_insert,
+                              codes, offsets, order, max_pointer_bytes, best, columns, ends)
+    per_query = np.split(columns, offsets[1:-1])
+    return [Placement(score, column, q_start, q_end, p_start, p_end)
+            for score, column, (q_start, q_end, p_start, p_end) in zip(best.tolist(), per_query, ends.tolist(),
+                                                                       strict=True)]

@@ -19,6 +19,7 @@ gap costs that are higher inside helices than in corners and termini. Then, per 
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
@@ -31,7 +32,7 @@ from globcons.align.scoring_profile import Profile, frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES, GLOBIN_EVALUE, evalues
 from globcons.core.alphabet import N_RESIDUES, decode
 
-__all__ = ["END_EXTENSION", "PlacedSequence", "place", "place_many"]
+__all__ = ["END_EXTENSION", "PlacedSequence", "place", "place_many", "frame_labels"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -115,20 +116,83 @@ def _extend_ends(columns: np.ndarray, n_columns: int, limit: int = END_EXTENSION
     return columns
 
 
-def _identities(reference: ReferenceAlignment, codes: np.ndarray, columns: np.ndarray) -> np.ndarray:
-    """Percent identity to every reference chain over the placed residues where that chain has one."""
+@dataclass(frozen=True, eq=False)
+class _FrameTables:
+    """Per-chain tables of the reference alignment that placement reads for every residue of a batch."""
+
+    labels: np.ndarray  # object (chains, columns): the chain's own label, else the canonical one
+    helices: tuple[tuple[str, ...], ...]  # per chain: its helices, in HELICES order
+    helix_columns: np.ndarray  # int64 (all chains' helices, columns): 1 where that helix holds the column
+    helix_start: np.ndarray  # int64 (chains + 1,): each chain's rows in helix_columns
+
+
+@functools.cache
+def _frame_tables(reference: ReferenceAlignment) -> _FrameTables:
+    own = reference.own_labels
+    labels = np.where(own != "", own, np.array(reference.labels, dtype=object)[None, :])
+    helices = tuple(tuple(masks) for masks in reference.helix_masks)
+    rows = [mask for masks in reference.helix_masks for mask in masks.values()]
+    helix_columns = np.array(rows, dtype=np.int64).reshape(len(rows), len(reference.columns))
+    helix_start = np.concatenate(([0], np.cumsum([len(h) for h in helices]))).astype(np.int64)
+    return _FrameTables(labels, helices, helix_columns, helix_start)
+
+
+def frame_labels(columns: np.ndarray, chains: np.ndarray, reference: ReferenceAlignment | None = None) -> np.ndarray:
+    """Frame label of each placed residue: the label its nearest reference chain gives its own residue in
+    that column, else the column's canonical label; '' for residues on no column.
+
+    Parameters
+    ----------
+    columns
+        ``int`` (n,): the frame column of each residue (-1: none), e.g. of many queries end to end.
+    chains
+        ``int`` (n,): the nearest reference chain (its index in the reference alignment) of each residue.
+
+    Returns
+    -------
+    numpy.ndarray
+        object (n,) of str.
+    """
+    reference = reference or reference_alignment()
+    table = _frame_tables(reference).labels
+    placed = columns >= 0
+    return np.where(placed, table[chains, np.where(placed, columns, 0)], "")
+
+
+def _identities(reference: ReferenceAlignment, codes: np.ndarray, columns: np.ndarray, query: np.ndarray,
+                n_queries: int) -> np.ndarray:
+    """(queries, chains) percent identity to every reference chain over each query's placed residues where that
+    chain has one (0 where it has none); ``codes``, ``columns`` and ``query`` (its index) run over all residues."""
     placed = columns >= 0
     ref = reference.codes[:, columns[placed]]  # (chains, placed residues)
     present = ref < N_RESIDUES
     same = present & (ref == codes[placed][None, :])
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(present.sum(axis=1) > 0, 100.0 * same.sum(axis=1) / present.sum(axis=1), 0.0)
+    owner = query[placed]
+    identities = np.empty((n_queries, ref.shape[0]))
+    for chain in range(ref.shape[0]):  # a handful of chains; the residues are counted in bulk
+        n_present = np.bincount(owner, weights=present[chain], minlength=n_queries)
+        n_same = np.bincount(owner, weights=same[chain], minlength=n_queries)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            identities[:, chain] = np.where(n_present > 0, 100.0 * n_same / n_present, 0.0)
+    return identities
 
 
-def _coverage(reference: ReferenceAlignment, chain: int, columns: np.ndarray) -> dict[str, float]:
-    covered = np.zeros(len(reference.columns), dtype=bool)
-    covered[columns[columns >= 0]] = True
-    return {helix: float(covered[mask].mean()) for helix, mask in reference.helix_masks[chain].items()}
+def _coverage(tables: _FrameTables, columns: np.ndarray, query: np.ndarray,
+              chains: np.ndarray) -> list[dict[str, float]]:
+    """Per query: the fraction of each helix of its nearest chain whose columns hold one of its residues."""
+    n_queries, n_columns = chains.shape[0], tables.helix_columns.shape[1]
+    covered = np.zeros((n_queries, n_columns), dtype=np.int64)
+    placed = columns >= 0
+    covered[query[placed], columns[placed]] = 1
+    counts = covered @ tables.helix_columns.T  # (queries, all helices): whole numbers, so exact
+    sizes = tables.helix_columns.sum(axis=1)
+    shares = (counts / sizes).tolist()
+    result = []
+    for q, chain in enumerate(chains.tolist()):
+        first = int(tables.helix_start[chain])
+        result.append(dict(zip(tables.helices[chain], shares[q][first:first + len(tables.helices[chain])],
+                               strict=True)))
+    return result
 
 
 def place_many(records: Iterable[tuple[str, str]], profile: Profile | None = None,
@@ -159,21 +223,30 @@ def place_many(records: Iterable[tuple[str, str]], profile: Profile | None = Non
     placements = align(profile.scores, profile.gaps, codes_list)
     scores = np.array([p.score for p in placements])
     significance = evalues(profile, codes_list, scores, shuffles)
+    # The batch end to end: every per-residue step below is one array operation for all queries.
+    lengths = np.array([c.shape[0] for c in codes_list])
+    query = np.repeat(np.arange(len(records)), lengths)
+    codes = np.concatenate(codes_list)
+    columns = np.concatenate([_extend_ends(p.column_of_residue, profile.n_columns) for p in placements])
+    identities = _identities(reference, codes, columns, query, len(records))
+    nearest = np.argmax(identities, axis=1)
+    tables = _frame_tables(reference)
+    labels = frame_labels(columns, nearest[query], reference)
+    coverage = _coverage(tables, columns, query, nearest)
+    bounds = np.cumsum(lengths)[:-1]
     names = [chain.name for chain in reference.chains]
-    canonical = reference.labels
+    letters = decode(codes)
     result = []
-    for (identifier, _), codes, placement, evalue in zip(records, codes_list, placements, significance, strict=True):
-        columns = _extend_ends(placement.column_of_residue, profile.n_columns)
-        identities = _identities(reference, codes, columns)
-        nearest = int(np.argmax(identities))
-        own = reference.own_labels[nearest]
-        labels = tuple(own[c] or canonical[c] if c >= 0 else "" for c in columns.tolist())
+    for q, ((identifier, _), placed_columns, placed_labels, evalue, start, end) in enumerate(zip(
+            records, np.split(columns, bounds), np.split(labels, bounds), significance.tolist(),
+            np.concatenate(([0], bounds)).tolist(), np.cumsum(lengths).tolist(), strict=True)):
+        chain = int(nearest[q])
         result.append(PlacedSequence(
-            id=identifier, sequence=decode(codes), column_of_residue=columns, labels=labels,
-            score=float(placement.score), evalue=float(evalue), nearest_reference=names[nearest],
-            identity=float(identities[nearest]),
-            identities=MappingProxyType(dict(zip(names, map(float, identities), strict=True))),
-            coverage=MappingProxyType(_coverage(reference, nearest, columns)),
+            id=identifier, sequence=letters[start:end], column_of_residue=placed_columns,
+            labels=tuple(placed_labels.tolist()), score=float(placements[q].score), evalue=evalue,
+            nearest_reference=names[chain], identity=float(identities[q, chain]),
+            identities=MappingProxyType(dict(zip(names, identities[q].tolist(), strict=True))),
+            coverage=MappingProxyType(coverage[q]),
         ))
     return result
 

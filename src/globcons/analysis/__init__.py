@@ -13,6 +13,8 @@ _EXPORTS = {
     "family_from_alignment": "globcons.analysis.family",
     "scan": "globcons.analysis.scanning",
     "iter_scan": "globcons.analysis.scanning",
+    "iter_scan_batches": "globcons.analysis.scanning",
+    "ScanBatch": "globcons.analysis.scanning",
     "assign_groups": "globcons.analysis.contrast",
     "contrast_columns": "globcons.analysis.contrast",
 }

@@ -27,18 +27,22 @@ when the position is not covered. Flags (``flags``, comma-separated) are documen
 
 from __future__ import annotations
 
+import itertools
 import os
-from collections.abc import Iterable, Iterator
+import re
+from collections.abc import Iterable, Iterator, Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
-from globcons.align.dp import align
+from globcons.align.dp import COMPILED_AFTER_CELLS, align, prepare_kernels
 from globcons.align.frame_columns import reference_alignment
-from globcons.align.placement import PlacedSequence, place_many
+from globcons.align.placement import PlacedSequence, frame_labels, place_many
 from globcons.align.scoring_profile import frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.analysis.family import Family, frame_family
+from globcons.analysis.scan_text import cell_texts, delimited_text, number_texts
 from globcons.analysis.workers import ordered_map
 from globcons.core.alphabet import N_RESIDUES, N_STANDARD, encode, looks_like_nucleotide
 from globcons.core.labels import HELICES
@@ -47,7 +51,11 @@ from globcons.core.properties import CORE_HYDROPHOBICITY_ARRAY, HYDROPHOBIC_CORE
 from globcons.core.vocabulary import DEVIATIONS
 from globcons.errors import OptionError
 
-__all__ = ["scan", "iter_scan", "FLAGS", "KEY_LABELS", "SUMMARY_COLUMNS", "RESIDUE_COLUMNS", "default_jobs"]
+if TYPE_CHECKING:
+    import pandas as pd
+
+__all__ = ["scan", "iter_scan", "iter_scan_batches", "ScanBatch", "header_text", "FLAGS", "KEY_LABELS",
+           "SUMMARY_COLUMNS", "RESIDUE_COLUMNS", "default_jobs"]
 
 #: Key positions reported in ``key_residues``, by their canonical frame label.
 KEY_LABELS = ("F8", "E7", "CD1", "B10", "E11")
@@ -83,7 +91,9 @@ RESIDUE_COLUMNS = ("id", "position", "residue", "frame_label", "column", "column
 
 
 # --------------------------------------------------------------------------------------------------
-# one query
+# one batch
+
+_LETTERS = re.compile(r"[A-Z*]*")
 
 
 def _screen(sequence: str) -> tuple[str, list[str]]:
@@ -93,7 +103,7 @@ def _screen(sequence: str) -> tuple[str, list[str]]:
         text = text[:-1]
     if not text:
         return "", ["empty"]
-    if any(not (c.isascii() and (c.isalpha() or c == "*")) for c in text):
+    if not (text.isascii() and _LETTERS.fullmatch(text)):  # upper() leaves only these as ASCII letters
         return "", ["invalid-characters"]
     if looks_like_nucleotide(encode(text)):
         return "", ["nucleotide"]
@@ -133,6 +143,7 @@ def _indel_flags(columns: np.ndarray) -> list[str]:
 
 
 def _deviations(family: Family, codes: np.ndarray, columns: np.ndarray) -> np.ndarray:
+    """The deviation word of every residue (of one query or of many end to end): object array of str."""
     deviation = np.full(codes.size, NO_DEVIATION, dtype=object)
     placed = columns >= 0
     deviation[~placed] = INSERTION
@@ -163,88 +174,207 @@ def _pocket(at: dict[str, str]) -> str:
     return "altered: " + ", ".join(altered) if altered else "canonical"
 
 
-def _query_result(identifier: str, sequence: str, flags: list[str], placed: PlacedSequence | None,
-                  family: Family, family_columns: np.ndarray | None, want_residues: bool):
+#: One character string per byte value, so that letters of many sequences become an object array at once.
+_CHARACTERS = np.array([chr(b) for b in range(256)], dtype=object)
+
+
+def _key_letters(texts: list[str], frame_columns: np.ndarray, query: np.ndarray, letters: np.ndarray) -> list[dict]:
+    """Per query: the residue at each of :data:`KEY_LABELS` ('-' where no residue is placed there)."""
     reference = reference_alignment()
-    row = dict.fromkeys(SUMMARY_COLUMNS, "")
-    row.update(id=identifier, length=len(sequence))
-    if placed is None:
-        row.update(is_globin="no", flags=",".join(flags), departures=0, departures_invariant=0,
-                   departures_conservative=0)
-        return row, None
-    codes = query_codes(sequence)  # unknowns and stops: no residue of their own
-    frame_columns = placed.column_of_residue
-    letter_at = {}
+    at = [dict.fromkeys(KEY_LABELS, "-") for _ in texts]
     for label in KEY_LABELS:
-        column = reference.column_of(label)
-        hit = np.flatnonzero(frame_columns == column)
-        letter_at[label] = sequence[hit[0]] if hit.size else "-"
-    columns = frame_columns if family_columns is None else family_columns
-    deviation = _deviations(family, codes, columns)
-    n_breaks = int((deviation == BREAKS_INVARIANT).sum())
-    n_leaves = int((deviation == LEAVES_GROUP).sum())
-    flags = flags + [f for f in _indel_flags(frame_columns) if f not in flags]
-    if "internal-stop" in flags and "possible-frameshift" not in flags:
-        flags.append("possible-frameshift")
-    row.update(
-        nearest_reference=placed.nearest_reference, identity=round(placed.identity, 1), score=round(placed.score, 1),
-        evalue=f"{placed.evalue:.2e}" if np.isfinite(placed.evalue) else "",
-        is_globin=("yes" if placed.is_globin else "no") if np.isfinite(placed.evalue) else "",
-        helices_missing=",".join(h for h in HELICES if placed.coverage.get(h, 1.0) < HELIX_PRESENT),
-        key_residues=" ".join(f"{label}:{letter_at[label]}" for label in KEY_LABELS),
-        pocket=_pocket(letter_at), departures=n_breaks + n_leaves, departures_invariant=n_breaks,
-        departures_conservative=n_leaves, flags=",".join(flags),
-    )
-    if not want_residues:
-        return row, None
-    placed_mask = columns >= 0
-    safe = np.maximum(columns, 0)
-    residues = {  # plain arrays: one DataFrame per batch is built from them
-        "id": np.full(len(sequence), identifier, dtype=object),
-        "position": np.arange(1, len(sequence) + 1),
-        "residue": np.array(list(sequence), dtype=object),
-        "frame_label": np.array(placed.labels, dtype=object),
-        "column": np.where(placed_mask, columns + 1, 0),
-        "column_class": np.where(placed_mask, family.classes[safe], ""),
-        "family_residues": np.where(placed_mask, family.family_residues[safe], ""),
-        "deviation": deviation,
+        hits = np.flatnonzero(frame_columns == reference.column_of(label))
+        owners, first = np.unique(query[hits], return_index=True)  # the first residue of each query there
+        for q, letter in zip(owners.tolist(), letters[hits[first]].tolist(), strict=True):
+            at[q][label] = letter
+    return at
+
+
+@dataclass(frozen=True, eq=False)
+class _Placed:
+    """The placed queries of a batch end to end (``query``: each residue's query, 0-based among them)."""
+
+    ids: list[str]
+    texts: list[str]
+    flags: list[list[str]]
+    placements: list[PlacedSequence]
+    lengths: np.ndarray
+    query: np.ndarray
+    letters: np.ndarray
+    frame_columns: np.ndarray
+    columns: np.ndarray
+    deviation: np.ndarray
+
+
+def _place_batch(records: list[tuple[str, str, list[str]]], family: Family, shuffles: int) -> _Placed:
+    """Place the screened records (id, text, flags) on the frame (and on the family's profile)."""
+    texts = [text for _, text, _ in records]
+    placements = place_many([(identifier, text) for identifier, text, _ in records], shuffles=shuffles)
+    codes_list = [query_codes(text) for text in texts]  # unknowns and stops: no residue of their own
+    lengths = np.array([len(text) for text in texts], dtype=np.int64)
+    query = np.repeat(np.arange(len(texts)), lengths)
+    frame_columns = np.concatenate([p.column_of_residue for p in placements] or [np.zeros(0, np.int64)])
+    columns = frame_columns
+    if family.profile is not None and texts:
+        columns = np.concatenate([p.column_of_residue for p in align(family.profile.scores, family.profile.gaps,
+                                                                         codes_list)])
+    codes = np.concatenate(codes_list or [np.zeros(0, np.uint8)])
+    letters = _CHARACTERS[np.frombuffer("".join(texts).encode("ascii"), dtype=np.uint8)]
+    return _Placed([r[0] for r in records], texts, [r[2] for r in records], placements, lengths, query, letters,
+                   frame_columns, columns, _deviations(family, codes, columns))
+
+
+def _summary_rows(placed: _Placed) -> list[dict[str, object]]:
+    """One summary row per placed query."""
+    n = len(placed.texts)
+    n_breaks = np.bincount(placed.query, weights=placed.deviation == BREAKS_INVARIANT, minlength=n).astype(int)
+    n_leaves = np.bincount(placed.query, weights=placed.deviation == LEAVES_GROUP, minlength=n).astype(int)
+    key = _key_letters(placed.texts, placed.frame_columns, placed.query, placed.letters)
+    rows = []
+    for q, (p, flags, at) in enumerate(zip(placed.placements, placed.flags, key, strict=True)):
+        flags = flags + [f for f in _indel_flags(p.column_of_residue) if f not in flags]
+        if "internal-stop" in flags and "possible-frameshift" not in flags:
+            flags.append("possible-frameshift")
+        breaks, leaves = int(n_breaks[q]), int(n_leaves[q])
+        significant = np.isfinite(p.evalue)
+        rows.append({
+            "id": placed.ids[q], "length": len(placed.texts[q]), "nearest_reference": p.nearest_reference,
+            "identity": round(p.identity, 1), "score": round(p.score, 1),
+            "evalue": f"{p.evalue:.2e}" if significant else "",
+            "is_globin": ("yes" if p.is_globin else "no") if significant else "",
+            "helices_missing": ",".join(h for h in HELICES if p.coverage.get(h, 1.0) < HELIX_PRESENT),
+            "key_residues": " ".join(f"{label}:{at[label]}" for label in KEY_LABELS), "pocket": _pocket(at),
+            "departures": breaks + leaves, "departures_invariant": breaks, "departures_conservative": leaves,
+            "flags": ",".join(flags)})
+    return rows
+
+
+def _residue_columns(placed: _Placed, family: Family) -> dict[str, np.ndarray]:
+    """The per-residue table of the batch as arrays (``column`` 0 where the residue has none)."""
+    reference = reference_alignment()
+    chains = np.array([reference.chain_index(p.nearest_reference) for p in placed.placements], dtype=np.int64)
+    on_column = placed.columns >= 0
+    safe = np.maximum(placed.columns, 0)
+    starts = np.cumsum(placed.lengths) - placed.lengths
+    return {
+        "id": np.repeat(np.array(placed.ids, dtype=object), placed.lengths),
+        "position": np.arange(placed.query.size) - np.repeat(starts, placed.lengths) + 1,
+        "residue": placed.letters,
+        "frame_label": frame_labels(placed.frame_columns, chains[placed.query], reference),
+        "column": np.where(on_column, placed.columns + 1, 0),
+        "column_class": np.where(on_column, family.classes[safe], ""),
+        "family_residues": np.where(on_column, family.family_residues[safe], ""),
+        "deviation": placed.deviation,
     }
-    return row, residues
 
 
-def _scan_batch(records: list[tuple[str, str]], family: Family, want_residues: bool,
-                shuffles: int) -> tuple[pd.DataFrame, pd.DataFrame | None]:
+@dataclass(frozen=True, eq=False)
+class ScanBatch:
+    """The results of one batch of queries, as plain columns (DataFrames or text on demand).
+
+    Attributes
+    ----------
+    rows
+        One summary row (a dict over :data:`SUMMARY_COLUMNS`) per query, in input order.
+    residues
+        The per-residue table as arrays over :data:`RESIDUE_COLUMNS` (``column`` 0 where the residue has
+        none), or None when not asked for (or dropped after :meth:`rendered`).
+    texts
+        Filled by :meth:`rendered`: the summary's and the per-residue table's lines as text, no header.
+    """
+
+    rows: list[dict[str, object]]
+    residues: dict[str, np.ndarray] | None
+    texts: tuple[str, str | None] | None = None
+
+    @property
+    def globins(self) -> int:
+        """Queries called globins."""
+        return sum(row["is_globin"] == "yes" for row in self.rows)
+
+    @property
+    def departing(self) -> int:
+        """Queries with at least one departure."""
+        return sum(row["departures"] > 0 for row in self.rows)
+
+    def summary_frame(self) -> pd.DataFrame:
+        """The summary rows as a DataFrame (columns :data:`SUMMARY_COLUMNS`)."""
+        import pandas as pd
+
+        return pd.DataFrame(self.rows, columns=list(SUMMARY_COLUMNS))
+
+    def residue_frame(self) -> pd.DataFrame | None:
+        """The per-residue rows as a DataFrame (``column`` a nullable integer), or None."""
+        import pandas as pd
+
+        if self.residues is None:
+            return None
+        if not self.residues["id"].size:
+            return pd.DataFrame(columns=list(RESIDUE_COLUMNS))
+        table = dict(self.residues)
+        column = pd.array(table["column"], dtype="Int64")
+        column[table["column"] == 0] = pd.NA
+        table["column"] = column
+        return pd.DataFrame(table)
+
+    def summary_text(self, fmt: str) -> str:
+        """The summary rows as ``fmt`` (tsv or csv) lines, no header."""
+        return delimited_text([cell_texts([row[name] for row in self.rows]) for name in SUMMARY_COLUMNS], fmt)
+
+    def residue_text(self, fmt: str) -> str:
+        """The per-residue rows as ``fmt`` (tsv or csv) lines, no header."""
+        if self.residues is None:
+            raise ValueError("this batch has no per-residue table")
+        table = dict(self.residues)
+        table["position"] = number_texts(table["position"])
+        table["column"] = number_texts(table["column"], zero="")  # no column: an empty cell
+        return delimited_text([table[name].tolist() for name in RESIDUE_COLUMNS], fmt)
+
+    def rendered(self, summary_format: str, residue_format: str | None, keep_residues: bool = False) -> ScanBatch:
+        """This batch with :attr:`texts` filled (the per-residue one when ``residue_format`` is given), keeping
+        the per-residue arrays only with ``keep_residues`` (text crosses between processes faster)."""
+        residue_text = self.residue_text(residue_format) if residue_format else None
+        return ScanBatch(self.rows, self.residues if keep_residues else None,
+                         (self.summary_text(summary_format), residue_text))
+
+
+def header_text(columns: Sequence[str], fmt: str) -> str:
+    """The header line of a table of ``columns`` in ``fmt`` (tsv or csv)."""
+    return delimited_text([[name] for name in columns], fmt)
+
+
+def _scan_batch(records: list[tuple[str, str]], family: Family, want_residues: bool, shuffles: int) -> ScanBatch:
     screened = [_screen(sequence) for _, sequence in records]
-    to_place = [(records[i][0], text) for i, (text, _) in enumerate(screened) if text]
-    placed = iter(place_many(to_place, shuffles=shuffles)) if to_place else iter(())
-    family_columns = None
-    if family.profile is not None and to_place:
-        codes = [query_codes(text) for _, text in to_place]
-        family_columns = iter(p.column_of_residue for p in align(family.profile.scores, family.profile.gaps, codes))
-    rows, residue_tables = [], []
+    to_place = [(identifier, text, flags) for (identifier, _), (text, flags) in zip(records, screened, strict=True)
+                if text]
+    placed = _place_batch(to_place, family, shuffles)
+    placed_rows = iter(_summary_rows(placed))
+    rows = []
     for (identifier, raw), (text, flags) in zip(records, screened, strict=True):
-        placement = next(placed) if text else None
-        columns = next(family_columns) if (text and family_columns is not None) else None
-        row, residues = _query_result(identifier, text, flags, placement, family, columns, want_residues)
-        if placement is None:
-            row["length"] = len(raw.strip())
+        if text:
+            rows.append(next(placed_rows))
+            continue
+        row = dict.fromkeys(SUMMARY_COLUMNS, "")
+        row.update(id=identifier, length=len(raw.strip()), is_globin="no", flags=",".join(flags), departures=0,
+                   departures_invariant=0, departures_conservative=0)
         rows.append(row)
-        if residues is not None:
-            residue_tables.append(residues)
-    summary = pd.DataFrame(rows, columns=list(SUMMARY_COLUMNS))
-    if not want_residues:
-        return summary, None
-    if not residue_tables:
-        return summary, pd.DataFrame(columns=list(RESIDUE_COLUMNS))
-    joined = {name: np.concatenate([t[name] for t in residue_tables]) for name in RESIDUE_COLUMNS}
-    column = pd.array(joined["column"], dtype="Int64")
-    column[joined["column"] == 0] = pd.NA
-    joined["column"] = column
-    return summary, pd.DataFrame(joined)
+    return ScanBatch(rows, _residue_columns(placed, family) if want_residues else None)
 
 
 # --------------------------------------------------------------------------------------------------
 # batches and workers
+
+def _finished(batch: ScanBatch, render: tuple | None) -> ScanBatch:
+    return batch if render is None else batch.rendered(*render)
+
+
+def _worker_batch(records: list[tuple[str, str]], family: Family, want_residues: bool, shuffles: int,
+                  render: tuple | None, compiled: bool) -> ScanBatch:
+    """One batch in a worker process (:func:`~globcons.analysis.workers.ordered_map`), rendered as text there."""
+    if compiled:  # forked workers have the parent's kernels already (a no-op); started ones load them here
+        prepare_kernels(COMPILED_AFTER_CELLS)
+    return _finished(_scan_batch(records, family, want_residues, shuffles), render)
+
 
 
 def default_jobs() -> int:
@@ -266,10 +396,10 @@ def _chunks(records: Iterable[tuple[str, str]], size: int) -> Iterator[list[tupl
         yield batch
 
 
-def iter_scan(records: Iterable[tuple[str, str]], family: Family | None = None, residues: bool = True,
-              jobs: int = 1, batch_size: int = 256,
-              shuffles: int = DEFAULT_SHUFFLES) -> Iterator[tuple[pd.DataFrame, pd.DataFrame | None]]:
-    """Scan records in batches, yielding (summary rows, residue rows) per batch, in input order.
+def iter_scan_batches(records: Iterable[tuple[str, str]], family: Family | None = None, residues: bool = True,
+                      jobs: int = 1, batch_size: int = 256, shuffles: int = DEFAULT_SHUFFLES,
+                      render: tuple[str, str | None, bool] | None = None) -> Iterator[ScanBatch]:
+    """Scan records in batches, yielding a :class:`ScanBatch` per batch, in input order.
 
     Memory stays that of a few batches whatever the number of records; results are identical for any
     ``jobs`` (each query's significance is seeded from the query itself).
@@ -277,7 +407,7 @@ def iter_scan(records: Iterable[tuple[str, str]], family: Family | None = None, 
     Parameters
     ----------
     records
-        ``(id, sequence)`` pairs, e.g. from :func:`globcons.io.readers.stream_records`.
+        ``(id, sequence)`` pairs, e.g. from :func:`globcons.io.records.stream_records`.
     family
         :func:`~globcons.analysis.family.frame_family` (default) or
         :func:`~globcons.analysis.family.family_from_alignment`.
@@ -287,17 +417,41 @@ def iter_scan(records: Iterable[tuple[str, str]], family: Family | None = None, 
         Worker processes (1: in this process).
     batch_size
         Queries per batch.
+    shuffles
+        Shuffled copies per query for the E-value.
+    render
+        ``(summary format, residue format or None, keep the residue arrays)``: each batch comes
+        :meth:`ScanBatch.rendered` (in the worker, so that text, not arrays, crosses between processes).
     """
     if jobs < 1:
         raise OptionError(f"--jobs must be at least 1, got {jobs}")
     family = family or frame_family()
-    frame_profile()  # build the caches once, before any worker forks
+    frame = frame_profile()  # build the caches once, before any worker forks
     batches = _chunks(records, batch_size)
+    # A look at the first batches: if they alone make enough alignment work, load the compiled kernels
+    # now (before the workers fork, so they share them) rather than after a first stretch on numpy.
+    ahead = list(itertools.islice(batches, 2 * jobs))
+    alignments = shuffles + 1 + (family.profile is not None)  # per query: shuffles, frame, family profile
+    residues_ahead = sum(len(sequence) for batch in ahead for _, sequence in batch)
+    compiled = prepare_kernels(residues_ahead * alignments * max(frame.n_columns, family.n_columns))
+    batches = itertools.chain(ahead, batches)
     if jobs == 1:
         for batch in batches:
-            yield _scan_batch(batch, family, residues, shuffles)
+            yield _finished(_scan_batch(batch, family, residues, shuffles), render)
         return
-    yield from ordered_map(_scan_batch, batches, jobs, state=(family, residues, shuffles))
+    yield from ordered_map(_worker_batch, batches, jobs, state=(family, residues, shuffles, render, compiled))
+
+
+def iter_scan(records: Iterable[tuple[str, str]], family: Family | None = None, residues: bool = True,
+              jobs: int = 1, batch_size: int = 256,
+              shuffles: int = DEFAULT_SHUFFLES) -> Iterator[tuple[pd.DataFrame, pd.DataFrame | None]]:
+    """Scan records in batches, yielding (summary rows, residue rows) DataFrames per batch, in input order.
+
+    Parameters as :func:`iter_scan_batches`.
+    """
+    for batch in iter_scan_batches(records, family, residues=residues, jobs=jobs, batch_size=batch_size,
+                                   shuffles=shuffles):
+        yield batch.summary_frame(), batch.residue_frame()
 
 
 def scan(records: Iterable[tuple[str, str]], family: Family | None = None,
@@ -318,6 +472,8 @@ def scan(records: Iterable[tuple[str, str]], family: Family | None = None,
     >>> summary["departures"].tolist()
     [0, 0]
     """
+    import pandas as pd
+
     parts = list(iter_scan(records, family, residues=True, jobs=jobs, shuffles=shuffles))
     if not parts:
         return pd.DataFrame(columns=list(SUMMARY_COLUMNS)), pd.DataFrame(columns=list(RESIDUE_COLUMNS))

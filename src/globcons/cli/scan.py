@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import contextlib
 from collections.abc import Iterable
-from typing import IO, TYPE_CHECKING
+from typing import TYPE_CHECKING
 
 import click
 
@@ -118,7 +118,9 @@ def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str 
                 total: int | None = None) -> tuple[dict[str, int], list[pd.DataFrame]]:
     """Scan ``records`` batch by batch, appending each batch's rows to the summary and residue tables.
 
-    On a terminal a progress display counts the sequences done, of ``total`` when it is known.
+    On a terminal a progress display counts the sequences done, of ``total`` when it is known. The workers
+    turn their batches into text (no DataFrame on this path); only ``keep_residues`` (the heatmap) keeps
+    per-residue tables.
 
     Returns
     -------
@@ -126,41 +128,32 @@ def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str 
         Sequences, globins and sequences with departures; the per-residue tables when ``keep_residues``
         (for the heatmap), else an empty list.
     """
-    import pandas as pd
-
-    from globcons.analysis.scanning import SUMMARY_COLUMNS, iter_scan
+    from globcons.analysis.scanning import RESIDUE_COLUMNS, SUMMARY_COLUMNS, header_text, iter_scan_batches
     from globcons.io.atomic import atomic_output
     from globcons.io.formats import table_format_for
 
     summary_format = table_format_for(output, table_format)
-    residue_format = table_format_for(residues_path, table_format)
+    residue_format = table_format_for(residues_path, table_format) if residues_path else None
     counts = {"sequences": 0, "globins": 0, "departing": 0}
     kept: list[pd.DataFrame] = []
     with contextlib.ExitStack() as stack:
         out = stack.enter_context(atomic_output(output, inputs))
         res = stack.enter_context(atomic_output(residues_path, inputs)) if residues_path else None
         advance = stack.enter_context(count_progress(reporter, "scanning", "sequences", total))
-        first = True
-        for summary, residues in iter_scan(records, family, residues=res is not None or keep_residues, jobs=jobs,
-                                           batch_size=batch_size, shuffles=shuffles):
-            _write_rows(out, summary, summary_format, header=first)
+        out.write(header_text(SUMMARY_COLUMNS, summary_format))
+        if res is not None:
+            res.write(header_text(RESIDUE_COLUMNS, residue_format))
+        for batch in iter_scan_batches(records, family, residues=res is not None or keep_residues, jobs=jobs,
+                                       batch_size=batch_size, shuffles=shuffles,
+                                       render=(summary_format, residue_format, keep_residues)):
+            summary_text, residue_text = batch.texts
+            out.write(summary_text)
             if res is not None:
-                _write_rows(res, residues, residue_format, header=first)
+                res.write(residue_text)
             if keep_residues:
-                kept.append(residues)
-            first = False
-            counts["sequences"] += len(summary)
-            counts["globins"] += int((summary["is_globin"] == "yes").sum())
-            counts["departing"] += int((summary["departures"] > 0).sum())
-            advance(len(summary))
-        if first:  # no record at all: still a header
-            _write_rows(out, pd.DataFrame(columns=list(SUMMARY_COLUMNS)), summary_format, header=True)
+                kept.append(batch.residue_frame())
+            counts["sequences"] += len(batch.rows)
+            counts["globins"] += batch.globins
+            counts["departing"] += batch.departing
+            advance(len(batch.rows))
     return counts, kept
-
-
-def _write_rows(stream: IO[str], table: pd.DataFrame, fmt: str, header: bool) -> None:
-    """Write ``table`` as delimited text, with its header line only for the first batch."""
-    from globcons.io.tables import format_table
-
-    text = format_table(table, fmt)
-    stream.write(text if header else text.split("\n", 1)[1])
