@@ -192,10 +192,12 @@ def _metadata(summary: ColumnSummary, options: ScoreOptions, classes: np.ndarray
         "columns": summary.n_columns,
         "effective_sequences": round(summary.n_eff, 6),
         "effective_sequences_method": summary.neighbours.describe(),
+        "effective_sequences_error": _finite_or_none(summary.neighbours.standard_error),
         "thin_family": bool(summary.n_eff < options.rules.min_neff),
         "weights": options.weights,
         "identity": options.identity,
         "neff_exact_rows": options.neff_exact_rows,
+        "neff_sample": options.neff_sample,
         "window": options.window,
         "reference": options.reference,
         "property_classes": PROPERTY_CLASSES,
@@ -207,12 +209,18 @@ def _metadata(summary: ColumnSummary, options: ScoreOptions, classes: np.ndarray
     }
 
 
+def _finite_or_none(value: float) -> float | None:
+    return round(value, 6) if np.isfinite(value) else None
+
+
 def summarise(table: pd.DataFrame) -> str:
     """One line: sequences, effective sequences, columns and the count of each class."""
     meta = table.attrs
     counts = meta["class_counts"]
     parts = ", ".join(f"{counts[name]} {name}" for name in CLASSES)
-    line = (f"{meta['sequences']} sequences ({meta['effective_sequences']:.1f} effective at "
+    error = meta.get("effective_sequences_error")
+    spread = f" ± {error:.1f}" if error else ""
+    line = (f"{meta['sequences']} sequences ({meta['effective_sequences']:.1f}{spread} effective at "
             f"{meta['identity']:.0%} identity; {meta['weights']} weights for the frequencies), {meta['columns']} "
             f"columns: {parts}")
     frame = meta.get("frame")

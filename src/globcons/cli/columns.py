@@ -13,6 +13,7 @@ from globcons.cli.options import (
     reader_options,
     score_options,
     scoring_options,
+    structure_options,
 )
 from globcons.cli.reporting import Reporter, common, warn_low_data
 from globcons.io.formats import TABLE_FORMATS
@@ -35,15 +36,18 @@ __all__ = ["columns"]
               help="Stream the alignment (FASTA/A2M) in two passes, N records per chunk: memory independent of "
                    "the number of rows, same table. Default: in memory, unless the file needs more memory "
                    "(about 4x its size) than is available.")
+@structure_options
 @reader_options
 @scoring_options
 @common
 def columns(alignment: str, output: str | None, table_format: str | None, fmt: str | None, keep_inserts: bool,
-            max_columns: int | None, chunk_rows: int | None, reporter: Reporter, **kw: Any) -> None:
+            max_columns: int | None, chunk_rows: int | None, structure_path: str | None, chain_id: str | None,
+            reporter: Reporter, **kw: Any) -> None:
     """Score and class every column of ALIGNMENT ('-' reads standard input).
 
     One row per column: class (invariant, conservative, variable, gap-rich), entropy, JSD, gap
-    fraction, effective sequences, consensus and residue frequencies.
+    fraction, effective sequences, consensus and residue frequencies. With --structure, also the
+    accessibility, burial, heme contact and interfaces of the chain residue on each column.
     """
     from globcons.analysis.columns import summarise
     from globcons.io.atomic import check_not_input
@@ -51,14 +55,37 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
 
     options = score_options(kw)
     if output is not None:
-        check_not_input(output, [alignment, kw.get("sites_path")])
-    table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter, max_columns)
+        check_not_input(output, [alignment, kw.get("sites_path"), structure_path])
+    if structure_path is not None:
+        table = _with_structure(alignment, options, fmt, keep_inserts, chunk_rows, structure_path, chain_id,
+                                reporter, max_columns)
+    else:
+        if chain_id is not None:
+            raise click.UsageError("--chain needs --structure FILE")
+        table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter, max_columns)
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
                           caption=f"Column conservation of {os.path.basename(str(alignment))}")
     reporter.info(summarise(table))
     warn_low_data(table, reporter)
     if written:
         reporter.info("wrote " + ", ".join(written))
+
+
+def _with_structure(alignment: str, options: ScoreOptions, fmt: str | None, keep_inserts: bool,
+                    chunk_rows: int | None, structure_path: str, chain_id: str | None,
+                    reporter: Reporter, max_columns: int | None = None) -> pd.DataFrame:
+    """The column table with the structural columns (the alignment is read in memory: the chain is placed on it)."""
+    from globcons.analysis.columns import score_columns
+    from globcons.errors import OptionError
+    from globcons.io.alignments import read_alignment
+    from globcons.structure.context import add_structure_columns
+
+    if chunk_rows is not None:
+        raise OptionError("--structure places the chain on the alignment in memory; drop --chunk-rows")
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns)
+    table, note = add_structure_columns(aligned, score_columns(aligned, options), structure_path, chain_id)
+    reporter.info(note)
+    return table
 
 
 def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_inserts: bool,

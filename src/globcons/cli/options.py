@@ -16,7 +16,8 @@ import click
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alphabet import RESIDUE_GROUPS
 from globcons.core.classes import ClassRules
-from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, SCHEMES
+from globcons.core.neighbours import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, NEFF_QUERY_ROWS
+from globcons.core.weights import SCHEMES
 from globcons.io.checks import MAX_COLUMNS
 from globcons.io.formats import FORMATS, TABLE_FORMATS
 
@@ -33,6 +34,7 @@ __all__ = [
     "score_options",
     "scoring_options",
     "shuffles_option",
+    "structure_options",
     "target_options",
 ]
 
@@ -87,6 +89,9 @@ def scoring_options(command: F) -> F:
         click.option("--neff-exact-rows", type=click.IntRange(0, None), default=NEFF_EXACT_MAX_ROWS,
                      show_default=True,
                      help="Up to this many rows the clusters compare every pair; above, a fixed sample."),
+        click.option("--neff-sample", type=click.IntRange(2, None), default=NEFF_QUERY_ROWS, show_default=True,
+                     help="Above --neff-exact-rows: sampled rows, each compared with every row, behind the "
+                          "estimated effective number (its standard error is reported)."),
         click.option("--matrix", default=_RULES["matrix"], show_default=True,
                      help="Substitution matrix (any Biopython ships) judging conservative groups."),
         click.option("--residue-groups", type=click.Choice(RESIDUE_GROUP_NAMES), default=None,
@@ -143,6 +148,7 @@ def score_options(kw: Mapping[str, Any]) -> ScoreOptions:
                        confidence=kw["confidence"], prior_weight=kw["prior_weight"], matrix=kw["matrix"],
                        residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
     return ScoreOptions(weights=kw["weights"], identity=kw["identity"], neff_exact_rows=kw["neff_exact_rows"],
+                        neff_sample=kw["neff_sample"],
                         window=kw["window"], rules=rules,
                         reference=kw.get("reference"), frame=not kw.get("no_frame", False),
                         sites_path=kw.get("sites_path"), replace_sites=kw.get("replace_sites", False))
@@ -170,6 +176,17 @@ def target_options(command: F) -> F:
         click.option("--allow-non-globin", is_flag=True,
                      help="Judge a target that does not place significantly on the globin frame (refused "
                           "otherwise); every row then says 'not a globin'."),
+    ])
+
+
+def structure_options(command: F) -> F:
+    """--structure and --chain: a PDB or mmCIF file whose coordinates add burial, heme contacts and interfaces."""
+    return _apply(command, [
+        click.option("--structure", "structure_path", type=click.Path(dir_okay=True), default=None,
+                     help="PDB or mmCIF file (gzip too): adds accessibility, burial, heme contacts and chain "
+                          "interfaces from its first model."),
+        click.option("--chain", "chain_id", default=None,
+                     help="The target's chain in --structure (the others are its partners)."),
     ])
 
 

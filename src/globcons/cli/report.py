@@ -14,6 +14,7 @@ from globcons.cli.options import (
     reader_options,
     score_options,
     scoring_options,
+    structure_options,
 )
 from globcons.cli.reporting import Reporter, common
 
@@ -32,19 +33,25 @@ __all__ = ["report"]
 @click.option("--no-frame", is_flag=True, help="Do not tie the columns to the globin frame.")
 @click.option("--no-logos", is_flag=True, help="Skip the logos of each helix (the slowest part).")
 @grouping_options
+@structure_options
 @reader_options
 @scoring_options
 @common
 def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, max_columns: int | None, no_logos: bool,
            reporter: Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
-           permutations: int, seed: int, conserved_min: float, **kw: Any) -> None:
+           permutations: int, seed: int, conserved_min: float, structure_path: str | None, chain_id: str | None,
+           **kw: Any) -> None:
     """Write an offline report of ALIGNMENT: report.html (self-contained), tables, figures, methods text.
 
-    With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv.
+    With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv;
+    with --structure FILE (and --chain ID), the column table carries the chain's burial, heme contacts and
+    interfaces.
     """
     from globcons.errors import OptionError
     from globcons.report.html import write_report
 
+    if chain_id is not None and structure_path is None:
+        raise OptionError("--chain needs --structure FILE")
     if groups_file is not None and group_by is not None:
         raise OptionError("give either --groups FILE or --group-by REGEX|nearest, not both")
     contrast = None
@@ -52,7 +59,10 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, ma
         contrast = {"groups_file": groups_file, "group_by": group_by, "min_group_neff": min_group_neff,
                     "permutations": permutations, "seed": seed, "conserved_min": conserved_min}
     result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
-                          logos=not no_logos, contrast=contrast, max_columns=column_limit(max_columns))
+                          logos=not no_logos, contrast=contrast, structure=structure_path, chain=chain_id,
+                          max_columns=column_limit(max_columns))
+    if structure_path is not None:
+        reporter.info(result.structure_note)
     counts = result.table.attrs["class_counts"]
     reporter.info(f"{result.table.attrs['columns']} columns: " + ", ".join(f"{v} {k}" for k, v in counts.items()))
     reporter.info(f"wrote {len(result.files)} files in {os.path.abspath(out_dir)}; open {result.html}")

@@ -45,6 +45,7 @@ from dataclasses import asdict, dataclass
 import numpy as np
 
 from globcons.core.alphabet import GROUP_SOURCES, N_RESIDUES, N_STANDARD, RESIDUE_GROUPS
+from globcons.core.incomplete_beta import regularized_incomplete_beta
 from globcons.core.matrices import DEFAULT_MATRIX, compatible_pairs, load_matrix
 from globcons.core.scores import (
     BLOSUM62_BACKGROUND,
@@ -146,11 +147,9 @@ def share_above(share: np.ndarray, prior: np.ndarray, n: np.ndarray, threshold: 
     The share is ``Beta(A q + n f, A (1 - q) + n (1 - f))`` (see the module notes), with ``f`` the
     observed ``share``, ``q`` its ``prior`` share and ``A`` the prior weight; any shape.
     """
-    from scipy.special import betainc  # the incomplete beta function; scipy only loads when classes are made
-
     a = prior_weight * prior + n * share
     b = prior_weight * (1.0 - prior) + n * (1.0 - share)
-    return 1.0 - betainc(np.maximum(a, 1e-12), np.maximum(b, 1e-12), threshold)
+    return 1.0 - regularized_incomplete_beta(np.maximum(a, 1e-12), np.maximum(b, 1e-12), threshold)
 
 
 def classify(frequencies: np.ndarray, gap_fraction: np.ndarray, n_eff: np.ndarray,

@@ -46,6 +46,8 @@ def check_columns(alignment: Alignment, max_columns: int | None) -> None:
 
 def unique_ids(ids: list[str], name: str) -> list[str]:
     """``ids`` with repeats made unique (``id_2``, ``id_3``...), with one warning saying how many and the first."""
+    if len(set(ids)) == len(ids):
+        return list(ids)
     seen: dict[str, int] = {}
     taken = set(ids)
     result = []

@@ -12,9 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from globcons.align.dp import align
 from globcons.align.placement import PlacedSequence, place
-from globcons.align.scoring_profile import query_codes
 from globcons.analysis.family import Family, frame_family
 from globcons.core.alphabet import RESIDUE_LETTERS, THREE_LETTER
 from globcons.errors import OptionError
@@ -132,8 +130,7 @@ def prepare_target(sequence: str, id: str = "target", family: Family | None = No
     elif family.profile is None:
         columns = placed.column_of_residue
     else:
-        codes = query_codes(sequence)
-        columns = align(family.profile.scores, family.profile.gaps, [codes])[0].column_of_residue
+        columns = family.columns_of(sequence)
     return Target(id, sequence, placed, columns, family, numbering)
 
 

@@ -47,16 +47,19 @@ from globcons.plots.output import save_figure
 from globcons.report.methods import (
     CONTRAST_CITATIONS,
     PERMUTATION_CITATION,
+    STRUCTURE_CITATIONS,
     citations,
     contrast_methods_text,
     methods_text,
+    structure_methods_text,
 )
+from globcons.structure.context import add_structure_columns
 
 __all__ = ["ReportResult", "write_report"]
 
 _NUMERIC = {"column", "ref_position", "support", "conservation", "property_conservation", "entropy_bits",
             "entropy_norm", "property_entropy", "jsd", "gap_fraction",
-            "unknown_fraction", "n_eff"}
+            "unknown_fraction", "n_eff", "rsa", "iron_distance"}
 
 
 @dataclass(frozen=True)
@@ -66,6 +69,7 @@ class ReportResult:
     folder: Path
     files: tuple[str, ...]
     table: pd.DataFrame
+    structure_note: str = ""
 
     @property
     def html(self) -> Path:
@@ -195,7 +199,8 @@ def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo
 
 def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.PathLike,
                  options: ScoreOptions | None = None, fmt: str | None = None, keep_inserts: bool = False,
-                 logos: bool = True, contrast: dict | None = None, max_columns: int | None = None) -> ReportResult:
+                 logos: bool = True, contrast: dict | None = None, structure: str | os.PathLike | None = None,
+                 chain: str | None = None, max_columns: int | None = None) -> ReportResult:
     """Write the report of an alignment into the folder ``out_dir``, replaced as a whole.
 
     Parameters
@@ -212,30 +217,41 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         Add the group contrast: keyword arguments ``groups_file`` or ``group_by`` (see
         :func:`globcons.analysis.contrast.assign_groups`) and optionally ``min_group_neff``, ``permutations``,
         ``seed``, ``conserved_min``, ``top`` (positions shown, default 12).
+    structure, chain
+        A PDB or mmCIF file and its chain (default: the first protein chain): the column table gains the
+        structural columns of :func:`globcons.structure.context.add_structure_columns`, and the methods
+        text says how they were measured.
     max_columns
         Refuse an alignment of more columns (None: no limit).
     """
     folder = Path(out_dir)
     options = options or ScoreOptions()
     inputs = [] if isinstance(alignment, Alignment) else [alignment]
-    check_folder_output(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file")])
+    check_folder_output(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file"), structure])
     aligned = alignment if isinstance(alignment, Alignment) else read_alignment(
         alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns)
     table = score_columns(aligned, options)
+    structure_note = ""
+    if structure is not None:
+        table, structure_note = add_structure_columns(aligned, table, structure, chain)
+        inputs.append(structure)
     with atomic_folder(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file")]) as work:
-        files = _write_report_files(aligned, table, work, options, inputs, logos, contrast)
+        files = _write_report_files(aligned, table, work, options, inputs, logos, contrast, structure is not None)
     files = [str(folder / Path(f).relative_to(work)) for f in files]
-    return ReportResult(folder, tuple(files), table)
+    return ReportResult(folder, tuple(files), table, structure_note)
 
 
 def _write_report_files(aligned: Alignment, table: pd.DataFrame, folder: Path, options: ScoreOptions,
-                        inputs: list, logos: bool, contrast: dict | None) -> list[str]:
+                        inputs: list, logos: bool, contrast: dict | None, structured: bool) -> list[str]:
     """Every file of the report, written into ``folder``; the paths written, report.html first."""
     files = _write_tables(table, folder, inputs)
     profile_uri = _write_profile(table, folder, inputs, files)
     logo_uris = _write_helix_logos(aligned, table, folder, inputs, files) if logos else []
     contrast_section = None
     methods, references = methods_text(table), citations(table.attrs)
+    if structured:
+        methods += " " + structure_methods_text(table.attrs["structure"])
+        references += STRUCTURE_CITATIONS
     if contrast:
         contrast_section = _contrast_section(aligned, folder, options, dict(contrast), inputs, files)
         methods += " " + contrast_section["methods"]

@@ -6,7 +6,8 @@ from pathlib import Path
 
 import pandas as pd
 
-__all__ = ["methods_text", "citations", "contrast_methods_text", "CONTRAST_CITATIONS", "PERMUTATION_CITATION"]
+__all__ = ["methods_text", "citations", "contrast_methods_text", "structure_methods_text", "CONTRAST_CITATIONS",
+           "PERMUTATION_CITATION", "STRUCTURE_CITATIONS"]
 
 
 def citations(meta: dict) -> list[str]:
@@ -24,6 +25,9 @@ def citations(meta: dict) -> list[str]:
         cited.append("Henikoff S, Henikoff JG (1994) Position-based sequence weights. J Mol Biol 243:574-578.")
     cited.append("Morcos F et al. (2011) Direct-coupling analysis of residue coevolution captures native "
                  "contacts across many protein families. PNAS 108:E1293-E1301.")
+    if meta.get("effective_sequences_error"):
+        cited.append("Cochran WG (1977) Sampling Techniques, 3rd edn. Wiley, New York (simple random sampling, "
+                     "chapter 2: the estimated effective number and its standard error).")
     cited.append("Gelman A, Carlin JB, Stern HS, Dunson DB, Vehtari A, Rubin DB (2013) Bayesian Data Analysis, "
                  "3rd edn. CRC Press (the Dirichlet-multinomial update, chapter 3).")
     if meta.get("class_counts", {}).get("gap-rich", 0):
@@ -67,13 +71,16 @@ def methods_text(table: pd.DataFrame) -> str:
     }.get(frame.get("source"), "Columns were not tied to the globin helix frame.")
     method = meta.get("effective_sequences_method", "")
     sampled = "sampled" in method
+    error = meta.get("effective_sequences_error")
     text = (
         f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of "
         f"{Path(meta['input']).name} was computed with globcons {meta['version']}. Residue frequencies used "
         f"{weighting}. The effective number of sequences counted sequence clusters: each sequence weighed one "
         f"over the number of sequences at least {meta['identity']:.0%} identical to it over all columns (Morcos "
         "et al. 2011"
-        + (", estimated by comparing every sequence with a fixed sample of the others" if sampled else "")
+        + ((f", estimated from {meta.get('neff_sample', 0):g} randomly sampled sequences each compared with all "
+            f"(standard error {error:.1f}; Cochran 1977)" if error else
+            ", estimated by comparing every sequence with a fixed sample of the others") if sampled else "")
         + f"), {meta['effective_sequences']:.1f} in all; a column's effective number was the summed weight of "
         "the sequences holding a residue in it. For each column, the weighted Shannon entropy over the 20 "
         "standard residues (Shannon 1948; gaps and unknown residues excluded), the entropy over six property "
@@ -129,4 +136,32 @@ def contrast_methods_text(meta: dict) -> str:
         f"group-specific when every group's consensus carried at least {meta['conserved_min']:g} of its residue "
         "weight and the consensus differed between groups, shared when the consensus was the same in all, "
         f"gap-rich above a gap fraction of {meta['max_gaps']:g}, and mixed otherwise."
+    )
+
+
+STRUCTURE_CITATIONS = [
+    "Shrake A, Rupley JA (1973) Environment and exposure to solvent of protein atoms. Lysozyme and insulin. "
+    "J Mol Biol 79:351-371.",
+    "Tien MZ, Meyer AG, Sydykova DK, Spielman SJ, Wilke CO (2013) Maximum allowed solvent accessibilites of "
+    "residues in proteins. PLoS ONE 8:e80635.",
+    "Rost B, Sander C (1994) Conservation and prediction of solvent accessibility in protein families. "
+    "Proteins 20:216-226.",
+    "Cock PJA et al. (2009) Biopython: freely available Python tools for computational molecular biology and "
+    "bioinformatics. Bioinformatics 25:1422-1423.",
+]
+
+
+def structure_methods_text(meta: dict) -> str:
+    """The methods sentences of the structural columns, from the ``structure`` metadata of a column table."""
+    return (
+        f"Chain {meta['chain']} of {Path(str(meta['file'])).name} was placed on the alignment's columns by aligning "
+        f"its sequence to the family profile ({meta['mapped']} of its {meta['residues']} residues placed). On the "
+        "first model, waters and hydrogens left out, the solvent-accessible surface of each residue was computed "
+        f"by the Shrake-Rupley method (Shrake and Rupley 1973; probe {meta['probe_radius']:g} A, "
+        f"{meta['sphere_points']} points per atom; Biopython, Cock et al. 2009) and divided by the theoretical "
+        "maximum accessibility of its residue type (Tien et al. 2013). Residues below "
+        f"{meta['core_below']:g} were classed core, from {meta['surface_from']:g} surface and boundary between "
+        "(the three-state cut-offs of Rost and Sander 1994). A residue with any atom within "
+        f"{meta['heme_contact_distance']:g} A of a heme atom was a heme contact, and one within "
+        f"{meta['interface_distance']:g} A of a protein atom of another chain lay at that chain's interface."
     )
