@@ -33,7 +33,7 @@ __all__ = ["check", "plan"]
 @common
 def check(target_path: str | None, mutation_list: str | None, mutations_file: str | None, family_path: str | None,
           target_id: str | None, numbering: str, output: str | None, table_format: str | None,
-          allow_non_globin: bool, structure_path: str | None, chain_id: str | None, reporter: Reporter) -> None:
+          structure_path: str | None, chain_id: str | None, allow_non_globin: bool, reporter: Reporter) -> None:
     """Judge proposed mutations of one TARGET sequence (FASTA) against the family.
 
     Each row: the position as given, mature and HGVS, the frame label, the column class, how often the
@@ -54,8 +54,8 @@ def check(target_path: str | None, mutation_list: str | None, mutations_file: st
         check_not_input(output, inputs)
     mutations = (parse_mutation_list(mutation_list) if mutation_list else []) + \
         (read_mutation_file(mutations_file) if mutations_file else [])
-    target = _load_target(target_path, target_id, family_path, numbering, reporter, features, chain_id,
-                          allow_non_globin)
+    target = _load_target(target_path, target_id, family_path, numbering, reporter, allow_non_globin, features,
+                          chain_id)
     context = _structure_context(target, features, chain_id, reporter)
     table = check_mutations(target, mutations, context=context)
     counts = table["verdict"].value_counts().to_dict()
@@ -97,8 +97,8 @@ def plan(target_path: str | None, family_path: str | None, target_id: str | None
     inputs = [target_path, family_path, structure_path]
     if output is not None:
         check_not_input(output, inputs)
-    target = _load_target(target_path, target_id, family_path, numbering, reporter, features, chain_id,
-                          allow_non_globin)
+    target = _load_target(target_path, target_id, family_path, numbering, reporter, allow_non_globin, features,
+                          chain_id)
     context = _structure_context(target, features, chain_id, reporter)
     table = rank_sites(target, exclude_labels=_split(exclude_labels), exclude_helices=_split(exclude_helices),
                        exclude_kinds=_split(exclude_kinds), top=top, context=context, surface_only=surface_only,
@@ -167,10 +167,10 @@ def _structure_target(features: StructureFeatures, chain_id: str | None, family,
 
 
 def _load_target(target_path: str | None, target_id: str | None, family_path: str | None, numbering: str,
-                 reporter: Reporter, features: StructureFeatures | None = None, chain_id: str | None = None,
-                 allow_non_globin: bool = False) -> Target:
-    """The target and the family, from TARGET / --target / --family (or a chain of --structure); a target that
-    is not a globin is refused unless ``allow_non_globin``."""
+                 reporter: Reporter, allow_non_globin: bool = False, features: StructureFeatures | None = None,
+                 chain_id: str | None = None) -> Target:
+    """The target and the family, from TARGET / --target / --family (or a chain of --structure); a target
+    that is not a globin is refused unless ``allow_non_globin``."""
     target = _read_target(target_path, target_id, family_path, numbering, reporter, features, chain_id)
     if not target.placed.is_globin:
         from globcons.core.alphabet import encode, looks_like_nucleotide
@@ -188,8 +188,7 @@ def _load_target(target_path: str | None, target_id: str | None, family_path: st
 
 
 def _read_target(target_path: str | None, target_id: str | None, family_path: str | None, numbering: str,
-                 reporter: Reporter, features: StructureFeatures | None = None, chain_id: str | None = None
-                 ) -> Target:
+                 reporter: Reporter, features: StructureFeatures | None = None, chain_id: str | None = None) -> Target:
     """The target and the family, from TARGET / --target / --family (or a chain of --structure)."""
     import numpy as np
 

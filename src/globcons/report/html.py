@@ -236,20 +236,20 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         table, structure_note = add_structure_columns(aligned, table, structure, chain)
         inputs.append(structure)
     with atomic_folder(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file")]) as work:
-        files = _write_report_files(aligned, table, work, options, inputs, logos, contrast, structure is not None)
+        files = _write_report_files(aligned, table, work, options, inputs, logos, contrast)
     files = [str(folder / Path(f).relative_to(work)) for f in files]
     return ReportResult(folder, tuple(files), table, structure_note)
 
 
 def _write_report_files(aligned: Alignment, table: pd.DataFrame, folder: Path, options: ScoreOptions,
-                        inputs: list, logos: bool, contrast: dict | None, structured: bool) -> list[str]:
+                        inputs: list, logos: bool, contrast: dict | None) -> list[str]:
     """Every file of the report, written into ``folder``; the paths written, report.html first."""
     files = _write_tables(table, folder, inputs)
     profile_uri = _write_profile(table, folder, inputs, files)
     logo_uris = _write_helix_logos(aligned, table, folder, inputs, files) if logos else []
     contrast_section = None
     methods, references = methods_text(table), citations(table.attrs)
-    if structured:
+    if "structure" in table.attrs:
         methods += " " + structure_methods_text(table.attrs["structure"])
         references += STRUCTURE_CITATIONS
     if contrast:
