@@ -165,9 +165,14 @@ def test_columns_tex_booktabs(capsys, aln):
     for rule in (r"\toprule", r"\midrule", r"\bottomrule"):
         assert rule in out
     assert out.index(r"\toprule") < out.index(r"\midrule")
-    assert r"low\_data" in out and r"entropy\_bits" in out  # '_' escaped for LaTeX
+    # the page-wide paper table (see test_paper_outputs.py): its chosen columns, '_' escaped for LaTeX
+    assert r"col. & label & class & supp. & res. & cons. & gaps & n\_eff & sites \\" in out
     body = [line for line in out.splitlines() if line.endswith(r"\\") and line.split(" & ")[0].strip().isdigit()]
     assert len(body) == 7
+    assert [line.split(" & ")[2] for line in body] == EXPECTED_CLASS
+    status, out, _ = run(capsys, "columns", aln, *HAND, "--table", "tex", "--tex-columns", "all")
+    assert status == 0 and r"H (bits) & H norm." in out and r"unknown\_fraction" in out
+    body = [line for line in out.splitlines() if line.endswith(r"\\") and line.split(" & ")[0].strip().isdigit()]
     assert [line.split(" & ")[COLUMN_ORDER.index("class")] for line in body] == EXPECTED_CLASS
 
 

@@ -34,7 +34,7 @@ from globcons.errors import OptionError
 from globcons.frame.functional_sites import Site, check_user_sites, column_sites, sites
 
 __all__ = ["COLUMN_ORDER", "SHOWN_SCORES", "score_columns", "table_from_summary", "read_user_sites", "summarise",
-           "is_thin"]
+           "is_thin", "class_counts"]
 
 
 #: Order of the table's columns (``ref_position`` and ``ref_residue`` follow ``column`` with a reference).
@@ -213,10 +213,24 @@ def _finite_or_none(value: float) -> float | None:
     return round(value, 6) if np.isfinite(value) else None
 
 
+def class_counts(table: pd.DataFrame) -> dict[str, int]:
+    """Columns of each class in the whole table: the one count the summary line and the figures show.
+
+    The table's metadata holds the counts of every column scored (``attrs["class_counts"]``), which stay
+    those of the whole alignment when rows are later left out (a table kept to some classes, or a figure
+    drawing only the columns with frame labels); a table without that metadata is counted as it is.
+    """
+    counts = table.attrs.get("class_counts")
+    if counts is None:
+        classes = table["class"].astype(str)
+        counts = {name: int((classes == name).sum()) for name in CLASSES}
+    return {name: int(counts.get(name, 0)) for name in CLASSES}
+
+
 def summarise(table: pd.DataFrame) -> str:
     """One line: sequences, effective sequences, columns and the count of each class."""
     meta = table.attrs
-    counts = meta["class_counts"]
+    counts = class_counts(table)
     parts = ", ".join(f"{counts[name]} {name}" for name in CLASSES)
     error = meta.get("effective_sequences_error")
     spread = f" ± {error:.1f}" if error else ""

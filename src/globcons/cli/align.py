@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from globcons.cli.options import shuffles_option
-from globcons.cli.reporting import Reporter, common
+from globcons.cli.reporting import Reporter, common, count_progress
 from globcons.io.formats import ALIGNMENT_OUTPUTS
 
 __all__ = ["align"]
@@ -49,7 +49,8 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
     empty = [r[0] for r in records if not r[1]]
     if empty:
         raise InputError(f"sequence {empty[0]!r} is empty", source=str(sequences))
-    result = align_to_frame(records, keep_inserts=keep_inserts, shuffles=shuffles)
+    with count_progress(reporter, "placing", "sequences", len(records)) as advance:
+        result = align_to_frame(records, keep_inserts=keep_inserts, shuffles=shuffles, progress=advance)
     text = format_alignment(result.ids, list(result.rows), fmt,
                             column_annotations=encode_labels(result.labels) if fmt == "stockholm" else None)
     with atomic_output(output, inputs) as stream:

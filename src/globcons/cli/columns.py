@@ -10,6 +10,7 @@ import click
 from globcons.cli.options import (
     alignment_argument,
     frame_options,
+    paper_options,
     reader_options,
     score_options,
     scoring_options,
@@ -37,11 +38,13 @@ __all__ = ["columns"]
                    "the number of rows, same table. Default: in memory, unless the file needs more memory "
                    "(about 4x its size) than is available.")
 @structure_options
+@paper_options
 @reader_options
 @scoring_options
 @common
 def columns(alignment: str, output: str | None, table_format: str | None, fmt: str | None, keep_inserts: bool,
             max_columns: int | None, chunk_rows: int | None, structure_path: str | None, chain_id: str | None,
+            only_classes: list[str], only_labels: list[str], tex_columns: list[str],
             reporter: Reporter, **kw: Any) -> None:
     """Score and class every column of ALIGNMENT ('-' reads standard input).
 
@@ -50,12 +53,14 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
     accessibility, burial, heme contact and interfaces of the chain residue on each column.
     """
     from globcons.analysis.columns import summarise
+    from globcons.analysis.paper import keep_rows, write_column_table
     from globcons.io.atomic import check_not_input
-    from globcons.io.tables import write_table
+    from globcons.io.formats import table_format_for
 
     options = score_options(kw)
     if output is not None:
         check_not_input(output, [alignment, kw.get("sites_path"), structure_path])
+    out_format = table_format_for(output, table_format)
     if structure_path is not None:
         table = _with_structure(alignment, options, fmt, keep_inserts, chunk_rows, structure_path, chain_id,
                                 reporter, max_columns)
@@ -63,9 +68,14 @@ def columns(alignment: str, output: str | None, table_format: str | None, fmt: s
         if chain_id is not None:
             raise click.UsageError("--chain needs --structure FILE")
         table = _column_table(alignment, options, fmt, keep_inserts, chunk_rows, reporter, max_columns)
-    written = write_table(table, output, table_format, metadata=table.attrs, inputs=[alignment],
-                          caption=f"Column conservation of {os.path.basename(str(alignment))}")
+    shown = keep_rows(table, only_classes, only_labels)
+    written = write_column_table(shown, output, out_format, inputs=[alignment], tex_columns=tex_columns,
+                                 caption=f"Column conservation of {os.path.basename(str(alignment))}")
     reporter.info(summarise(table))
+    if shown is not table:
+        reporter.info(f"kept {len(shown)} of {len(table)} columns in the table ({_choice(only_classes, only_labels)})")
+    if tex_columns and out_format != "tex":
+        reporter.warn(f"--tex-columns applies to tex tables only; this table is {out_format}")
     warn_low_data(table, reporter)
     if written:
         reporter.info("wrote " + ", ".join(written))
@@ -128,3 +138,10 @@ def _column_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_i
         return table_from_summary(summary, options)
     return score_columns(read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns),
                          options)
+
+
+def _choice(only_classes: list[str], only_labels: list[str]) -> str:
+    """How the rows were chosen, in words."""
+    parts = ([f"classes {', '.join(only_classes)}"] if only_classes else []) + \
+        ([f"labels {', '.join(only_labels)}"] if only_labels else [])
+    return "; ".join(parts)

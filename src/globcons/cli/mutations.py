@@ -58,6 +58,7 @@ def check(target_path: str | None, mutation_list: str | None, mutations_file: st
                           chain_id)
     context = _structure_context(target, features, chain_id, reporter)
     table = check_mutations(target, mutations, context=context)
+    _warn_hgvs(target, reporter)
     counts = table["verdict"].value_counts().to_dict()
     _write_with_caution(table, output, table_format, inputs, _metadata(target, numbering, context), reporter)
     reporter.info(f"{len(table)} mutations of {target.id} (nearest {target.placed.nearest_reference}): "
@@ -103,10 +104,20 @@ def plan(target_path: str | None, family_path: str | None, target_id: str | None
     table = rank_sites(target, exclude_labels=_split(exclude_labels), exclude_helices=_split(exclude_helices),
                        exclude_kinds=_split(exclude_kinds), top=top, context=context, surface_only=surface_only,
                        exclude_interfaces=exclude_interfaces)
+    _warn_hgvs(target, reporter)
     _write_with_caution(table, output, table_format, inputs, _metadata(target, numbering, context), reporter)
     counts = table["verdict"].value_counts().to_dict()
     reporter.info(f"{len(table)} positions of {target.id} ranked: "
                   + ", ".join(f"{counts.get(v, 0)} {v}" for v in ("open", "guarded", "locked")))
+
+
+def _warn_hgvs(target: Target, reporter: Reporter) -> None:
+    """Say why the hgvs column is blank, when it is (its hgvs_note column says it per row too)."""
+    from globcons.mutations.target import hgvs_note
+
+    note = hgvs_note(target)
+    if note:
+        reporter.warn(f"{target.id}: {note}")
 
 
 def _split(text: str) -> list[str]:

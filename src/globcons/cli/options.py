@@ -28,6 +28,7 @@ __all__ = [
     "LOGO_MAX_COLUMNS",
     "alignment_argument",
     "column_limit",
+    "paper_options",
     "frame_options",
     "grouping_options",
     "reader_options",
@@ -205,5 +206,25 @@ def grouping_options(command: F) -> F:
         click.option("--seed", type=click.IntRange(0, 2**63 - 1), default=0, show_default=True,
                      help="Seed of the permutations (a whole number from 0)."),
         click.option("--conserved-min", type=float, default=0.8, show_default=True,
-                     help="Share of a group's residue weight its consensus needs for the group to be conserved."),
+                     help="A group is conserved when its most common residue makes up at least this share of its "
+                          "residues (each sequence counted with its weight, gaps not counted)."),
+    ])
+
+
+def _comma_list(ctx: click.Context, param: click.Parameter, value: str | None) -> list[str]:
+    """A comma-separated option as a list of names, blanks dropped."""
+    return [item.strip() for item in (value or "").split(",") if item.strip()]
+
+
+def paper_options(command: F) -> F:
+    """--only-classes, --only-labels and --tex-columns: the column table as a paper shows it (columns, report)."""
+    return _apply(command, [
+        click.option("--only-classes", default=None, callback=_comma_list, metavar="LIST",
+                     help="Keep only the columns of these classes in the table (comma-separated, e.g. "
+                          "invariant,conservative)."),
+        click.option("--only-labels", default=None, callback=_comma_list, metavar="LIST",
+                     help="Keep only the columns at these frame labels (comma-separated, e.g. E7,E11,F8)."),
+        click.option("--tex-columns", default=None, callback=_comma_list, metavar="LIST",
+                     help="Columns of the tex table (comma-separated; 'all' for every one). Default: column, "
+                          "frame_label, class, support, consensus, conservation, gap_fraction, n_eff, sites."),
     ])

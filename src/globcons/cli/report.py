@@ -11,12 +11,13 @@ from globcons.cli.options import (
     alignment_argument,
     column_limit,
     grouping_options,
+    paper_options,
     reader_options,
     score_options,
     scoring_options,
     structure_options,
 )
-from globcons.cli.reporting import Reporter, common
+from globcons.cli.reporting import Reporter, common, step_progress
 
 __all__ = ["report"]
 
@@ -34,13 +35,14 @@ __all__ = ["report"]
 @click.option("--no-logos", is_flag=True, help="Skip the logos of each helix (the slowest part).")
 @grouping_options
 @structure_options
+@paper_options
 @reader_options
 @scoring_options
 @common
 def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, max_columns: int | None, no_logos: bool,
            reporter: Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
            permutations: int, seed: int, conserved_min: float, structure_path: str | None, chain_id: str | None,
-           **kw: Any) -> None:
+           only_classes: list[str], only_labels: list[str], tex_columns: list[str], **kw: Any) -> None:
     """Write an offline report of ALIGNMENT: report.html (self-contained), tables, figures, methods text.
 
     With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv;
@@ -58,9 +60,11 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, ma
     if groups_file is not None or group_by is not None:
         contrast = {"groups_file": groups_file, "group_by": group_by, "min_group_neff": min_group_neff,
                     "permutations": permutations, "seed": seed, "conserved_min": conserved_min}
-    result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
-                          logos=not no_logos, contrast=contrast, structure=structure_path, chain=chain_id,
-                          max_columns=column_limit(max_columns))
+    with step_progress(reporter, "report") as progress:
+        result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
+                              logos=not no_logos, contrast=contrast, structure=structure_path, chain=chain_id,
+                              max_columns=column_limit(max_columns), only_classes=only_classes,
+                              only_labels=only_labels, tex_columns=tex_columns or None, progress=progress)
     if structure_path is not None:
         reporter.info(result.structure_note)
     counts = result.table.attrs["class_counts"]

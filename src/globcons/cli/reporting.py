@@ -5,18 +5,22 @@ Light to import (click only), like every module the command group loads before a
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import re
+import sys
 import warnings
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from typing import TYPE_CHECKING, Any
 
 import click
 
 if TYPE_CHECKING:
     import pandas as pd
+    from rich.progress import Progress
 
-__all__ = ["PROG", "OutputClosed", "Reporter", "common", "printable", "warn_low_data"]
+__all__ = ["PROG", "OutputClosed", "Reporter", "common", "count_progress", "printable", "shows_progress",
+           "step_progress", "warn_low_data"]
 
 PROG = "globcons"
 
@@ -112,3 +116,70 @@ def warn_low_data(table: pd.DataFrame, reporter: Reporter) -> None:
     if low:
         reporter.warn(f"{low} of {meta['columns']} columns have fewer than {min_neff:g} effective sequences "
                       "(flagged low_data): their classes rest on little evidence")
+
+
+def shows_progress(reporter: Reporter) -> bool:
+    """Whether a progress display is due: standard error is a terminal and the command is not --quiet."""
+    return not reporter.quiet and sys.stderr.isatty()
+
+
+def _progress_display(unit: str, known_total: bool) -> Progress:
+    """A rich progress display on stderr that clears itself when done (rich loads only here)."""
+    from rich.console import Console
+    from rich.progress import (
+        BarColumn,
+        MofNCompleteColumn,
+        Progress,
+        SpinnerColumn,
+        TextColumn,
+        TimeElapsedColumn,
+        TimeRemainingColumn,
+    )
+
+    columns: list = [SpinnerColumn(), TextColumn("{task.description}")]
+    if known_total:  # done/total ("?" until the total is known), elapsed and an estimate of the time left
+        columns += [BarColumn(), MofNCompleteColumn(), TextColumn(unit), TimeElapsedColumn(), TextColumn("left"),
+                    TimeRemainingColumn()]
+    else:
+        columns += [TextColumn(f"{{task.completed}} {unit}"), TimeElapsedColumn()]
+    return Progress(*columns, console=Console(stderr=True), transient=True)
+
+
+@contextlib.contextmanager
+def count_progress(reporter: Reporter, what: str, unit: str, total: int | None) -> Iterator[Callable[[int], None]]:
+    """A progress display of items done (of ``total`` when known), on a terminal only.
+
+    Yields
+    ------
+    callable
+        ``advance(n)``: n more items done (does nothing off a terminal or with --quiet).
+    """
+    if not shows_progress(reporter):
+        yield lambda n: None
+        return
+    with _progress_display(unit, total is not None) as progress:
+        task = progress.add_task(what, total=total)
+        yield lambda n: progress.update(task, advance=n)
+
+
+@contextlib.contextmanager
+def step_progress(reporter: Reporter, what: str) -> Iterator[Callable[[str, int, int], None] | None]:
+    """A progress display of a job's steps, on a terminal only.
+
+    Yields
+    ------
+    callable or None
+        ``progress(step, done, total)`` for the library to call after each step (e.g.
+        :func:`globcons.report.html.write_report`); None off a terminal or with --quiet.
+    """
+    if not shows_progress(reporter):
+        yield None
+        return
+    with _progress_display("steps", True) as progress:
+        task = progress.add_task(what, total=None)
+
+        def update(step: str, done: int, total: int) -> None:
+            progress.update(task, description=f"{what}: {step}", completed=done, total=total)
+            progress.refresh()  # draw every step: a fast one would otherwise fall between two refreshes
+
+        yield update

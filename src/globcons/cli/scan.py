@@ -3,18 +3,16 @@
 from __future__ import annotations
 
 import contextlib
-import sys
 from collections.abc import Iterable
 from typing import IO, TYPE_CHECKING
 
 import click
 
 from globcons.cli.options import column_limit, reader_options, shuffles_option
-from globcons.cli.reporting import Reporter, common
+from globcons.cli.reporting import Reporter, common, count_progress, shows_progress
 
 if TYPE_CHECKING:
     import pandas as pd
-    from rich.progress import Progress
 
     from globcons.analysis.family import Family
 
@@ -65,10 +63,15 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     if family.thin:
         reporter.warn(family.describe())
     jobs = jobs or default_jobs()
+    total = None
+    if shows_progress(reporter):  # a total for the display: one cheap pass counting the headers of a file
+        from globcons.io.counting import count_records
+
+        total = count_records(sequences)
     records = ((r.id, r.sequence) for r in stream_records(sequences))
     with atomic_batch():  # the tables, the heat map and the metadata land together or not at all
         counts, kept = _write_scan(records, family, output, residues_path, table_format, inputs, jobs, batch_size,
-                                   shuffles, keep_residues=heatmap_path is not None, reporter=reporter)
+                                   shuffles, keep_residues=heatmap_path is not None, reporter=reporter, total=total)
         if heatmap_path is not None and kept:
             import pandas as pd
 
@@ -111,8 +114,11 @@ def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, r
 
 def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str | None, residues_path: str | None,
                 table_format: str | None, inputs: list[str | None], jobs: int, batch_size: int, shuffles: int,
-                keep_residues: bool, reporter: Reporter) -> tuple[dict[str, int], list[pd.DataFrame]]:
+                keep_residues: bool, reporter: Reporter,
+                total: int | None = None) -> tuple[dict[str, int], list[pd.DataFrame]]:
     """Scan ``records`` batch by batch, appending each batch's rows to the summary and residue tables.
+
+    On a terminal a progress display counts the sequences done, of ``total`` when it is known.
 
     Returns
     -------
@@ -133,11 +139,7 @@ def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str 
     with contextlib.ExitStack() as stack:
         out = stack.enter_context(atomic_output(output, inputs))
         res = stack.enter_context(atomic_output(residues_path, inputs)) if residues_path else None
-        progress = _progress(reporter)
-        task = None
-        if progress is not None:
-            stack.enter_context(progress)
-            task = progress.add_task("scanning", total=None)
+        advance = stack.enter_context(count_progress(reporter, "scanning", "sequences", total))
         first = True
         for summary, residues in iter_scan(records, family, residues=res is not None or keep_residues, jobs=jobs,
                                            batch_size=batch_size, shuffles=shuffles):
@@ -150,8 +152,7 @@ def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str 
             counts["sequences"] += len(summary)
             counts["globins"] += int((summary["is_globin"] == "yes").sum())
             counts["departing"] += int((summary["departures"] > 0).sum())
-            if progress:
-                progress.update(task, advance=len(summary))
+            advance(len(summary))
         if first:  # no record at all: still a header
             _write_rows(out, pd.DataFrame(columns=list(SUMMARY_COLUMNS)), summary_format, header=True)
     return counts, kept
@@ -163,14 +164,3 @@ def _write_rows(stream: IO[str], table: pd.DataFrame, fmt: str, header: bool) ->
 
     text = format_table(table, fmt)
     stream.write(text if header else text.split("\n", 1)[1])
-
-
-def _progress(reporter: Reporter) -> Progress | None:
-    """A rich progress display on a terminal; None when quiet or not a terminal."""
-    if reporter.quiet or not sys.stderr.isatty():
-        return None
-    from rich.console import Console
-    from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
-
-    return Progress(SpinnerColumn(), TextColumn("{task.description}: {task.completed} sequences"),
-                    TimeElapsedColumn(), console=Console(stderr=True), transient=True)

@@ -163,7 +163,7 @@ def _delimited(table: pd.DataFrame, sep: str) -> str:
 
 
 def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] | None = None,
-                 caption: str | None = None) -> str:
+                 caption: str | None = None, tex_spec: str | None = None) -> str:
     """Render a table as text.
 
     Parameters
@@ -177,6 +177,9 @@ def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] |
         closing note in md; tsv and csv carry none (see :func:`write_table`).
     caption
         Caption of the tex table.
+    tex_spec
+        Column specification of the tex table (default: ``r`` for numbers, ``l`` for text). The tex table
+        is set compactly (small type, 3pt between columns) to fit a page.
     """
     if fmt == "tsv":
         return _delimited(table, "\t")
@@ -194,16 +197,17 @@ def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] |
         note = [] if not metadata else ["", "Options: " + _md_escape(_one_line(metadata))]
         return "\n".join([header, rule, *body, *note]) + "\n"
     if fmt == "tex":
-        spec = "".join("r" if pd.api.types.is_numeric_dtype(table[c]) and table[c].dtype != bool else "l"
-                       for c in table.columns)
+        spec = tex_spec or "".join("r" if pd.api.types.is_numeric_dtype(table[c]) and table[c].dtype != bool
+                                   else "l" for c in table.columns)
         lines = [f"% {line}" for line in json.dumps(_plain(metadata or {}), indent=1).splitlines()]
-        lines += [r"% needs \usepackage{booktabs,longtable}", rf"\begin{{longtable}}{{{spec}}}"]
+        lines += [r"% needs \usepackage{booktabs,longtable,array}", r"\begingroup\small\setlength{\tabcolsep}{3pt}",
+                  rf"\begin{{longtable}}{{{spec}}}"]
         if caption:
             lines.append(rf"\caption{{{_tex_escape(caption)}}}\\")
         header = " & ".join(_tex_escape(str(c)) for c in table.columns) + r" \\"
         lines += [r"\toprule", header, r"\midrule", r"\endhead", r"\bottomrule", r"\endfoot"]
         lines += [" & ".join(_tex_escape(cell) for cell in row) + r" \\" for row in _text_rows(table)]
-        lines.append(r"\end{longtable}")
+        lines += [r"\end{longtable}", r"\endgroup"]
         return "\n".join(lines) + "\n"
     raise OptionError(f"unknown table format {fmt!r}; choose one of {', '.join(TABLE_FORMATS)}")
 
@@ -228,7 +232,7 @@ def _one_line(metadata: Mapping[str, object]) -> str:
 
 def write_table(table: pd.DataFrame, path: str | os.PathLike | None, fmt: str | None = None,
                 metadata: Mapping[str, object] | None = None, inputs: Iterable = (),
-                caption: str | None = None, sidecar: bool = True) -> list[str]:
+                caption: str | None = None, sidecar: bool = True, tex_spec: str | None = None) -> list[str]:
     """Write a table atomically; a tsv or csv file also gets its metadata in ``<path>.meta.json``.
 
     Returns
@@ -237,7 +241,7 @@ def write_table(table: pd.DataFrame, path: str | os.PathLike | None, fmt: str | 
         The files written (empty when writing to standard output).
     """
     fmt = table_format_for(path, fmt)
-    text = format_table(table, fmt, metadata, caption)
+    text = format_table(table, fmt, metadata, caption, tex_spec)
     inputs = list(inputs)
     written = []
     regular = path is not None and str(path) != "-" and not (Path(path).exists() and not Path(path).is_file())

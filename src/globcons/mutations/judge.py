@@ -69,13 +69,14 @@ from globcons.errors import OptionError
 from globcons.frame.functional_sites import Site, sites, sites_at
 from globcons.mutations.context import BURIAL_ORDER, STRUCTURE_COLUMNS, StructureContext
 from globcons.mutations.notation import Mutation, parse_mutation
-from globcons.mutations.target import Target, as_target, hgvs_cell
+from globcons.mutations.target import Target, as_target, hgvs_cell, hgvs_note
 
 __all__ = ["check", "rank_sites", "CHECK_COLUMNS", "PLAN_COLUMNS"]
 
-CHECK_COLUMNS = ("mutation", "position", "mature_position", "hgvs", "frame_label", "column", "column_class",
-                 "family_frequency", "blosum", "property_change", "verdict", "reasons")
-PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "residue", "frame_label", "column",
+CHECK_COLUMNS = ("mutation", "position", "wild_type", "new_residue", "mature_position", "hgvs", "hgvs_note",
+                 "frame_label", "column", "column_class", "family_frequency", "blosum", "property_change", "verdict",
+                 "reasons")
+PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "hgvs_note", "residue", "frame_label", "column",
                 "column_class", "tolerance", "verdict", "substitutions", "reasons")
 
 #: A helix residue at this place or later is past the helix's first turn (Pro is common in the first
@@ -254,7 +255,8 @@ def _assess(target: Target, given: int, mutation: Mutation,
         reasons.append(f"substitution scores {score:+.0f} in {family.matrix}")
     reasons += [r for r in (globin_reason(target),) if r]
     return {
-        "mutation": mutation.text, "position": given, "mature_position": mature, "hgvs": hgvs,
+        "mutation": mutation.text, "position": given, "wild_type": wild, "new_residue": new,
+        "mature_position": mature, "hgvs": hgvs, "hgvs_note": "" if hgvs else hgvs_note(target),
         "frame_label": label, "column": column + 1 if column >= 0 else None, "column_class": column_class,
         **(context.cells(given) if context is not None else {}), "family_frequency": frequency, "blosum": score,
         "property_change": property_change(wild, new).text(),
@@ -358,7 +360,8 @@ def _position_row(target: Target, given: int, site_list: list[Site],
     mature, hgvs = _numbering_cells(target, given)
     cells = context.cells(given) if context is not None else {}
     if given == 1 and target.starts_with_met:
-        return {"position": 1, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": "",
+        return {"position": 1, "mature_position": mature, "hgvs": hgvs, "hgvs_note": "", "residue": wild,
+                "frame_label": "",
                 "column": None, "column_class": "", **cells, "tolerance": INITIATOR_TOLERANCE, "verdict": "locked",
                 "substitutions": "", "reasons": "; ".join(r for r in (
                     "initiator Met: changing it loses the start of translation", globin_reason(target)) if r)}
@@ -393,7 +396,8 @@ def _position_row(target: Target, given: int, site_list: list[Site],
     if closed and verdict == "open":
         verdict = "guarded"
     reasons += [r for r in (globin_reason(target),) if r]
-    return {"position": given, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": label,
+    return {"position": given, "mature_position": mature, "hgvs": hgvs, "hgvs_note": "" if hgvs else hgvs_note(target),
+            "residue": wild, "frame_label": label,
             "column": column + 1 if column >= 0 else None, "column_class": cls, **cells,
             "tolerance": round(tolerance, 6),
             "verdict": verdict, "substitutions": substitutions, "reasons": "; ".join(reasons)}

@@ -24,6 +24,7 @@ from __future__ import annotations
 import base64
 import datetime as _dt
 import os
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
@@ -34,6 +35,7 @@ from globcons._version import __version__
 from globcons.analysis.columns import score_columns
 from globcons.analysis.contrast import assign_groups, contrast_columns, top_contrast
 from globcons.analysis.options import ScoreOptions
+from globcons.analysis.paper import keep_rows, paper_table, write_column_table
 from globcons.core.alignment import Alignment
 from globcons.core.labels import HELICES, segment_of
 from globcons.core.vocabulary import CAUTION, CONTRAST_CLASSES
@@ -51,11 +53,15 @@ from globcons.report.methods import (
     citations,
     contrast_methods_text,
     methods_text,
+    reference_list,
     structure_methods_text,
 )
 from globcons.structure.context import add_structure_columns
 
 __all__ = ["ReportResult", "write_report"]
+
+#: CSS pixels per inch (CSS fixes 96), for the displayed size of the figures.
+CSS_PX_PER_INCH = 96
 
 _NUMERIC = {"column", "ref_position", "support", "conservation", "property_conservation", "entropy_bits",
             "entropy_norm", "property_entropy", "jsd", "gap_fraction",
@@ -80,7 +86,7 @@ def _data_uri(path: Path, mime: str) -> str:
     return f"data:{mime};base64," + base64.b64encode(path.read_bytes()).decode("ascii")
 
 
-def _options_list(table: pd.DataFrame, alignment: Alignment) -> list[tuple[str, str]]:
+def _options_list(table: pd.DataFrame) -> list[tuple[str, str]]:
     meta = table.attrs
     rules = meta["rules"]
     frame = meta.get("frame") or {}
@@ -114,8 +120,8 @@ def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, s
         save_figure(figure, folder / f"contrast.{ext}", inputs)
         files.append(str(folder / f"contrast.{ext}"))
     best = top_contrast(table, top)
-    shown = ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue"]
-    shown += ["pvalue_permutation"] if "pvalue_permutation" in best else []
+    shown = ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue", "qvalue"]
+    shown += ["pvalue_permutation", "qvalue_permutation"] if "pvalue_permutation" in best else []
     shown += [c for c in best.columns if c.startswith("consensus_")]
     methods = contrast_methods_text(meta)
     return {
@@ -135,12 +141,13 @@ def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, s
     }
 
 
-def _write_tables(table: pd.DataFrame, folder: Path, inputs: list) -> list[str]:
-    meta = table.attrs
-    files = write_table(table, folder / "columns.tsv", "tsv", metadata=meta, inputs=inputs)
-    for ext in ("md", "tex"):
-        files += write_table(table, folder / f"columns.{ext}", ext, metadata=meta, inputs=inputs,
-                             caption=f"Column conservation of {Path(meta['input']).name}")
+def _write_tables(table: pd.DataFrame, folder: Path, inputs: list, tex_columns: list[str] | None) -> list[str]:
+    """columns.tsv (+ meta), .md and .tex (the page-wide paper table) of the rows the report shows."""
+    files = []
+    for ext in ("tsv", "md", "tex"):
+        caption = None if ext == "tsv" else f"Column conservation of {Path(table.attrs['input']).name}"
+        files += write_column_table(table, folder / f"columns.{ext}", ext, inputs=inputs, caption=caption,
+                                    tex_columns=tex_columns)
     return files
 
 
@@ -153,33 +160,55 @@ def _write_profile(table: pd.DataFrame, folder: Path, inputs: list, files: list[
     return _data_uri(folder / "profile.svg", "image/svg+xml")
 
 
+def _helices_of(table: pd.DataFrame) -> list[str]:
+    """The helices the table's frame labels touch, in order."""
+    segments = {segment_of(label) for label in table["frame_label"] if label}
+    return [helix for helix in HELICES if helix in segments]
+
+
+class _Steps:
+    """Counts the report's steps and tells ``progress(step, done, total)`` after each one."""
+
+    def __init__(self, progress: Callable[[str, int, int], None] | None, total: int) -> None:
+        self.progress, self.total, self.done = progress, total, 0
+
+    def __call__(self, what: str) -> None:
+        self.done += 1
+        if self.progress is not None:
+            self.progress(what, self.done, self.total)
+
+
 def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, inputs: list,
-                       files: list[str]) -> list[tuple[str, str]]:
-    """Write logo_<helix>.svg for every helix the columns carry; return (helix, data URI) pairs."""
+                       files: list[str], step: Callable[[str], None]) -> list[tuple[str, str, tuple[int, int]]]:
+    """Write logo_<helix>.svg for every helix the columns carry; return (helix, data URI, (width, height) in CSS
+    pixels). Every logo is drawn to one y-scale (:data:`globcons.plots.logo.LOGO_GEOMETRY`) and the page shows
+    each at that size, unscaled, so their heights in bits compare across helices."""
     meta, labels = table.attrs, table["frame_label"].tolist()
     uris = []
-    for helix in HELICES:
+    for helix in _helices_of(table):
         columns = [int(c) for c, label in zip(table["column"], labels, strict=True)
                    if label and segment_of(label) == helix]
-        if not columns:
-            continue
         path = folder / f"logo_{helix}.svg"
         figure = draw_logo(aligned, columns, weights=meta["weights"], labels=[labels[c - 1] for c in columns],
                            max_gaps=meta["rules"]["max_gaps"], title=f"helix {helix}",
                            identity=meta["identity"] or 0.8)
         save_figure(figure, path, inputs)
         files.append(str(path))
-        uris.append((helix, _data_uri(path, "image/svg+xml")))
+        size = (round(figure.get_figwidth() * CSS_PX_PER_INCH), round(figure.get_figheight() * CSS_PX_PER_INCH))
+        uris.append((helix, _data_uri(path, "image/svg+xml"), size))
+        step(f"drew the logo of helix {helix}")
     return uris
 
 
-def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo_uris: list[tuple[str, str]],
+def _render_html(table: pd.DataFrame, shown: pd.DataFrame, profile_uri: str, logo_uris: list[tuple],
                  methods: str, references: list[str], contrast_section: dict | None) -> str:
+    """The page: summary, figures and sites of the whole ``table``; its column table shows the ``shown`` rows."""
     from jinja2 import Environment  # only the report needs templates
 
     meta = table.attrs
-    rows = [[(name, text_cell(value)) for name, value in zip(table.columns, record, strict=True)]
-            for record in table.itertuples(index=False, name=None)]
+    rows = [[(name, text_cell(value)) for name, value in zip(shown.columns, record, strict=True)]
+            for record in shown.itertuples(index=False, name=None)]
+    kept = shown.attrs.get("kept_rows") if shown is not table else None
     frame = meta.get("frame") or {}
     notes = [frame.get("note", "")] if frame.get("source") == "none" else []
     environment = Environment(autoescape=True, keep_trailing_newline=True)
@@ -187,20 +216,22 @@ def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo
     return environment.from_string(template_text).render(
         input_name=Path(meta["input"]).name, version=__version__,
         generated=_dt.date.today().isoformat(), caution=CAUTION,
-        options=_options_list(table, aligned), sequences=meta["sequences"], effective=meta["effective_sequences"],
+        options=_options_list(table), sequences=meta["sequences"], effective=meta["effective_sequences"],
         columns=meta["columns"], class_counts=list(meta["class_counts"].items()),
         frame_note=frame.get("note", ""), profile_uri=profile_uri, logos=logo_uris,
         sites=table[table["sites"] != ""].to_dict("records"),
         low_data=meta["low_data_columns"], min_neff=f"{meta['rules']['min_neff']:g}", notes=notes,
-        table_columns=list(table.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
-        citations=references, contrast=contrast_section,
+        table_columns=list(shown.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
+        citations=references, contrast=contrast_section, kept=kept,
     )
 
 
 def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.PathLike,
                  options: ScoreOptions | None = None, fmt: str | None = None, keep_inserts: bool = False,
                  logos: bool = True, contrast: dict | None = None, structure: str | os.PathLike | None = None,
-                 chain: str | None = None, max_columns: int | None = None) -> ReportResult:
+                 chain: str | None = None, max_columns: int | None = None, only_classes: Sequence[str] = (),
+                 only_labels: Sequence[str] = (), tex_columns: Sequence[str] | None = None,
+                 progress: Callable[[str, int, int], None] | None = None) -> ReportResult:
     """Write the report of an alignment into the folder ``out_dir``, replaced as a whole.
 
     Parameters
@@ -223,6 +254,14 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         text says how they were measured.
     max_columns
         Refuse an alignment of more columns (None: no limit).
+    only_classes, only_labels
+        Keep only these classes / frame labels in the column tables (files and page); the summary, the
+        figures and the methods text still cover every column (:func:`globcons.analysis.paper.keep_rows`).
+    tex_columns
+        Columns of ``columns.tex`` (default :data:`globcons.analysis.paper.TEX_COLUMNS`; ``["all"]``).
+    progress
+        Called as ``progress(step, done, total)`` after each step (scoring, tables, each figure, the page),
+        for a progress display; the library itself prints nothing.
     """
     folder = Path(out_dir)
     options = options or ScoreOptions()
@@ -235,18 +274,28 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     if structure is not None:
         table, structure_note = add_structure_columns(aligned, table, structure, chain)
         inputs.append(structure)
+    shown = keep_rows(table, only_classes, only_labels)
+    tex = list(tex_columns) if tex_columns else None
+    paper_table(shown, tex)  # a bad --tex-columns fails before any file
+    helices = _helices_of(table) if logos else []
+    step = _Steps(progress, 4 + len(helices) + (1 if contrast else 0))
+    step("scored the columns")
     with atomic_folder(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file")]) as work:
-        files = _write_report_files(aligned, table, work, options, inputs, logos, contrast)
+        files = _write_report_files(aligned, table, shown, work, options, inputs, logos, contrast, tex, step)
     files = [str(folder / Path(f).relative_to(work)) for f in files]
+    step("wrote the page")
     return ReportResult(folder, tuple(files), table, structure_note)
 
 
-def _write_report_files(aligned: Alignment, table: pd.DataFrame, folder: Path, options: ScoreOptions,
-                        inputs: list, logos: bool, contrast: dict | None) -> list[str]:
+def _write_report_files(aligned: Alignment, table: pd.DataFrame, shown: pd.DataFrame, folder: Path,
+                        options: ScoreOptions, inputs: list, logos: bool, contrast: dict | None,
+                        tex_columns: list[str] | None, step: Callable[[str], None]) -> list[str]:
     """Every file of the report, written into ``folder``; the paths written, report.html first."""
-    files = _write_tables(table, folder, inputs)
+    files = _write_tables(shown, folder, inputs, tex_columns)
+    step("wrote the tables")
     profile_uri = _write_profile(table, folder, inputs, files)
-    logo_uris = _write_helix_logos(aligned, table, folder, inputs, files) if logos else []
+    step("drew the profile")
+    logo_uris = _write_helix_logos(aligned, table, folder, inputs, files, step) if logos else []
     contrast_section = None
     methods, references = methods_text(table), citations(table.attrs)
     if "structure" in table.attrs:
@@ -254,13 +303,15 @@ def _write_report_files(aligned: Alignment, table: pd.DataFrame, folder: Path, o
         references += STRUCTURE_CITATIONS
     if contrast:
         contrast_section = _contrast_section(aligned, folder, options, dict(contrast), inputs, files)
+        step("computed the group contrast")
         methods += " " + contrast_section["methods"]
         references += CONTRAST_CITATIONS + (PERMUTATION_CITATION if contrast_section["permutations"] else [])
+    references = reference_list(references)
     with atomic_output(folder / "methods.md", inputs) as stream:
         stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
                      + "\n".join(f"- {c}" for c in references) + "\n")
     files.append(str(folder / "methods.md"))
-    html = _render_html(table, aligned, profile_uri, logo_uris, methods, references, contrast_section)
+    html = _render_html(table, shown, profile_uri, logo_uris, methods, references, contrast_section)
     with atomic_output(folder / "report.html", inputs) as stream:
         stream.write(html)
     files.insert(0, str(folder / "report.html"))

@@ -6,8 +6,8 @@ from pathlib import Path
 
 import pandas as pd
 
-__all__ = ["methods_text", "citations", "contrast_methods_text", "structure_methods_text", "CONTRAST_CITATIONS",
-           "PERMUTATION_CITATION", "STRUCTURE_CITATIONS"]
+__all__ = ["methods_text", "citations", "contrast_methods_text", "reference_list", "structure_methods_text",
+           "CONTRAST_CITATIONS", "PERMUTATION_CITATION", "STRUCTURE_CITATIONS"]
 
 
 def citations(meta: dict) -> list[str]:
@@ -94,10 +94,13 @@ def methods_text(table: pd.DataFrame) -> str:
         "came from the posterior distribution of a column's residue shares: a Dirichlet prior of total weight "
         f"{rules['prior_weight']:g} spread by the BLOSUM62 background frequencies, updated by the column's "
         "frequencies times its effective number of sequences (the conjugate update; Gelman et al. 2013), so that "
-        "the share of any set of residues is Beta distributed. A column was invariant when the posterior "
-        f"probability that its most frequent residue holds at least {rules['invariant_min']:g} of the column was "
-        f"at least {rules['confidence']:g}; conservative when the same held for a share of {rules['group_min']:g} "
-        f"of its substitution group, built greedily from the most frequent residue down under {grouping}; and "
+        "the share of any set of residues is Beta distributed. A residue's share of a column is the part of "
+        "the column's residues it makes up, each sequence counted with its weight and gaps not counted. A "
+        "column was invariant when the posterior probability that its most frequent residue makes up at least "
+        f"{rules['invariant_min'] * 100:g}% of the column's residues was at least {rules['confidence']:g}; "
+        f"conservative when the same held for its substitution group making up at least "
+        f"{rules['group_min'] * 100:g}%, the group built greedily from the most frequent residue down under "
+        f"{grouping}; and "
         "variable otherwise. That probability is reported as the column's support. Columns with fewer than "
         f"{rules['min_neff']:g} effective sequences were flagged as low-data"
         + (f", and the family as a whole held fewer than {rules['min_neff']:g} effective sequences, so its "
@@ -114,12 +117,25 @@ CONTRAST_CITATIONS = [
     "Miller GA (1955) Note on the bias of information estimates. In: Quastler H (ed) Information Theory in "
     "Psychology. Free Press, pp 95-100.",
     "Sokal RR, Rohlf FJ (1995) Biometry, 3rd edn. Freeman (the G-test of independence).",
+    "Benjamini Y, Hochberg Y (1995) Controlling the false discovery rate: a practical and powerful approach to "
+    "multiple testing. J R Stat Soc B 57:289-300.",
 ]
 
 
 PERMUTATION_CITATION = ["Good P (2005) Permutation, Parametric, and Bootstrap Tests of Hypotheses, 3rd edn. "
                          "Springer."]
 
+
+
+def reference_list(cited: list[str]) -> list[str]:
+    """The references in a stable order: alphabetical by first author (then year and title), duplicates once.
+
+    Examples
+    --------
+    >>> reference_list(["Shannon CE (1948) ...", "Capra JA, Singh M (2007) ...", "Shannon CE (1948) ..."])
+    ['Capra JA, Singh M (2007) ...', 'Shannon CE (1948) ...']
+    """
+    return sorted(set(cited), key=lambda text: (text.casefold(), text))
 
 
 def contrast_methods_text(meta: dict) -> str:
@@ -132,10 +148,18 @@ def contrast_methods_text(meta: dict) -> str:
         "(Lin 1991), and by the mutual information between residue and group with the Miller-Madow correction "
         "(Miller 1955); significance came from the G-test of the residue-by-group table (Sokal and Rohlf 1995)"
         + (f" and from {meta['permutations']} permutations of the group labels" if meta["permutations"] else "")
-        + f". Groups with fewer than {meta['min_group_neff']:g} effective sequences were left out. A column was "
-        f"group-specific when every group's consensus carried at least {meta['conserved_min']:g} of its residue "
-        "weight and the consensus differed between groups, shared when the consensus was the same in all, "
-        f"gap-rich above a gap fraction of {meta['max_gaps']:g}, and mixed otherwise."
+        + ". Because many columns were tested, the p-values were corrected by the Benjamini-Hochberg procedure "
+        "(Benjamini and Hochberg 1995) over the "
+        + (f"{meta['tested_columns']} " if "tested_columns" in meta else "")
+        + "columns with something to test; each column's q-value is the false discovery rate at which it would "
+        f"count as significant. Groups with fewer than {meta['min_group_neff']:g} effective sequences were left "
+        "out. A group counted as conserved in a column when its most common residue made up at least "
+        f"{meta['conserved_min'] * 100:g}% of the group's residues there, each sequence counted with its weight and "
+        "gaps not counted (its share of the residue weight), and the group had at most "
+        f"{meta['max_gaps'] * 100:g}% gaps there. A column was group-specific when every group was conserved and "
+        "their most common residues differed, shared when every group was conserved with the same residue, "
+        f"gap-rich when more than {meta['max_gaps'] * 100:g}% of the grouped sequences had a gap there, and mixed "
+        "otherwise."
     )
 
 
