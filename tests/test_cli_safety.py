@@ -60,7 +60,8 @@ def _children(pid: int) -> list[int]:
 
 # ------------------------------------------------------------------------------------------------ signals
 
-@pytest.mark.skipif(not Path("/proc/self/task").exists(), reason="needs /proc to see the worker processes")
+@pytest.mark.skipif(not Path(f"/proc/{os.getpid()}/task/{os.getpid()}/children").exists(),
+                    reason="needs /proc/PID/task/TID/children to see the worker processes")
 @pytest.mark.parametrize("signum", [signal.SIGTERM, signal.SIGHUP])
 def test_stop_signal_leaves_no_part_files_and_no_workers(tmp_path, signum):
     """`scan -j 2 -o s.tsv --residues r.tsv` stopped by SIGTERM or SIGHUP mid-run: status 128 + the signal
@@ -379,5 +380,5 @@ def test_dollar_in_file_name_and_title(tmp_path, capsys, command):
     else:
         extra = ["--columns", "1-10"] if command == "logo" else []
         status, _, err = run(capsys, command, odd, *extra, "--title", "cost $\\q^$ 5", "-o", tmp_path / "f.svg", "-q")
-        assert "cost $\\q^$ 5" in (tmp_path / "f.svg").read_text() or "cost" in (tmp_path / "f.svg").read_text()
+        assert "cost $\\q^$ 5" in (tmp_path / "f.svg").read_text()  # drawn as the text given, not as math
     assert status == 0, err

@@ -395,6 +395,8 @@ class GroupedRows:
     def of(cls, alignment: Alignment, names: np.ndarray, row_weights: np.ndarray,
            min_group_neff: float) -> GroupedRows:
         """Group the rows; refuse fewer than two groups of at least ``min_group_neff``."""
+        if not math.isfinite(min_group_neff) or min_group_neff < 0:
+            raise OptionError(f"--min-group-neff must be a number from 0, got {min_group_neff}")
         all_groups = sorted(set(names) - {""})
         sizes = {g: {"rows": int((names == g).sum()),
                      "effective_size": round(float(row_weights[names == g].sum()), 6)} for g in all_groups}

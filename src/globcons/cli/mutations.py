@@ -193,7 +193,7 @@ def _load_target(target_path: str | None, target_id: str | None, family_path: st
             why = "it looks like a nucleotide sequence (translate first)" if nucleotide else \
                 globin_reason(target).split(": ", 1)[1].split(", so")[0].replace("the target does", "it does")
             raise InputError(f"target {target.id!r} is not a globin: {why}; give --allow-non-globin to judge it "
-                             "anyway", source=str(target_path or family_path))
+                             "anyway", source=str(target_path or family_path or "the structure"))
         reporter.warn(f"target {target.id!r} is not a globin; every row says so")
     return target
 

@@ -20,7 +20,7 @@ import numpy as np
 from globcons.core.counts import CHUNK_ROWS
 from globcons.errors import InputError
 from globcons.io.checks import PROTEIN_SAMPLE, check_protein, stops_to_unknown
-from globcons.io.fasta import parse_fasta_rows
+from globcons.io.fasta import lone_returns_to_newlines, parse_fasta_rows
 from globcons.io.opening import BOM, InputSource, is_blank, read_checked
 from globcons.io.sniff import text_problem
 
@@ -50,7 +50,8 @@ def record_chunks(stream: BinaryIO, chunk_rows: int, name: str = "<input>") -> I
     """Cut a FASTA stream into chunks of ``chunk_rows`` whole records (the last may hold fewer).
 
     A chunk ends just before a line starting with '>', so every chunk after the first starts with a header
-    and no line is split. Bytes before the first header go with the first chunk.
+    and no line is split. Bytes before the first header go with the first chunk. Lone CR line ends become
+    LF as they are read (as :func:`~globcons.io.fasta.lone_returns_to_newlines` does for a whole file).
     """
     pending = bytearray()
     read_size, eof = _READ_BYTES, False
@@ -61,7 +62,9 @@ def record_chunks(stream: BinaryIO, chunk_rows: int, name: str = "<input>") -> I
             if not more:
                 eof = True
                 break
-            pending += more
+            if more.endswith(b"\r"):  # is it CRLF or a lone CR? the next byte says
+                more += read_checked(stream, 1, name)
+            pending += lone_returns_to_newlines(more)
             starts = _record_starts(pending)
             # Read about what the missing records need, judged by the bytes per record so far.
             per_record = len(pending) / max(starts.size, 1)
