@@ -246,3 +246,14 @@ def test_no_private_names_cross_modules_and_command_modules_import_only_shared_o
         else:  # the group, the entry point and the shared modules never import a command module
             assert targets <= FRAMEWORK, path.name
         assert 'if __name__ == "__main__"' not in path.read_text(), path.name
+
+
+def test_scan_writes_its_tables_without_pandas(tmp_path):
+    # The scan's tables are text built per batch (analysis.scan_text); pandas is only for the library's
+    # DataFrames and the heat map, so a plain scan does not pay for importing it.
+    from globcons.demo import demo_file
+
+    result, names = _imported_modules(tmp_path, "scan", demo_file("demo_queries.fasta"), "-o", "scan.tsv")
+    assert result.returncode == 0, result.stderr
+    assert _top_level(names) & {"pandas", "scipy", "matplotlib", "numba"} == set()
+    assert (tmp_path / "scan.tsv").read_text().startswith("id\tlength\t")

@@ -17,13 +17,16 @@ import os
 import re
 from collections.abc import Iterable, Mapping
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from globcons.errors import OptionError
 from globcons.io.atomic import atomic_batch, atomic_output, check_not_input
 from globcons.io.formats import TABLE_FORMATS, table_format_for
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = ["FLOAT_DIGITS", "SIGNIFICANT_DIGITS", "FIXED_MIN", "FORMULA_STARTS", "format_number", "neutralise_formula",
            "format_table", "write_table", "text_cell", "metadata_path", "write_metadata"]
@@ -51,9 +54,14 @@ _NUMBER = re.compile(r"[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?%?")
 
 
 
+def _is_missing(value: object) -> bool:
+    # pandas' NA, told by its type so that writing plain cells (scan, metadata) never loads pandas
+    return value is None or (type(value).__name__ == "NAType" and type(value).__module__.startswith("pandas"))
+
+
 def text_cell(value: object) -> str:
     """How a table cell reads as text: '' for missing, yes/no for booleans, floats with :data:`FLOAT_DIGITS`."""
-    if value is None or value is pd.NA:
+    if _is_missing(value):
         return ""
     if isinstance(value, (bool, np.bool_)):
         return "yes" if value else "no"
@@ -99,7 +107,7 @@ def _text_rows(table: pd.DataFrame) -> list[list[str]]:
 
 
 def _json_cell(value: object) -> object:
-    if value is None or value is pd.NA:
+    if _is_missing(value):
         return None
     if isinstance(value, (bool, np.bool_)):
         return bool(value)
@@ -126,6 +134,8 @@ def _md_escape(text: str) -> str:
 def _number_strings(column: pd.Series) -> pd.Series | None:
     """A float column as :func:`format_number` writes it, or None when no value needs significant digits
     (then pandas' own float format is faster and the same)."""
+    import pandas as pd
+
     values = column.to_numpy(dtype=float)
     small = (values != 0) & (np.abs(values) < FIXED_MIN)
     if not small.any():
@@ -144,6 +154,8 @@ def _delimited(table: pd.DataFrame, sep: str) -> str:
     tsv cells go out as they are (no quotes, no escapes); csv is quoted where needed (RFC 4180) and its
     text cells are neutralised against formula injection (:func:`neutralise_formula`).
     """
+    import pandas as pd
+
     frame = table.copy()
     for name in frame.columns:
         column = frame[name]
@@ -181,6 +193,8 @@ def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] |
         Column specification of the tex table (default: ``r`` for numbers, ``l`` for text). The tex table
         is set compactly (small type, 3pt between columns) to fit a page.
     """
+    import pandas as pd
+
     if fmt == "tsv":
         return _delimited(table, "\t")
     if fmt == "csv":
