@@ -272,7 +272,7 @@ def clean_fasta_rows(data: bytes | bytearray, name: str, width: int | None = Non
     buf = np.frombuffer(data, dtype=np.uint8)
     if buf.size < 4 or buf[-1] != 10 or data.find(b"\r") >= 0:
         return None
-    newlines = np.flatnonzero(buf == 10)
+    newlines = _positions(buf, 10)  # slice by slice: no mask the size of the file
     if newlines.size % 2:
         return None
     line_starts = np.concatenate(([0], newlines[:-1] + 1))
@@ -285,23 +285,44 @@ def clean_fasta_rows(data: bytes | bytearray, name: str, width: int | None = Non
             or np.isin(buf[header_starts + 1], _BLANK_OR_NEWLINE).any()
             or np.isin(buf[sequence_ends - 1], _FINAL_STOP_OR_BLANK).any()):
         return None
-    heads = b"\n".join([data[start + 1:stop] for start, stop in zip(header_starts.tolist(), header_ends.tolist(),
-                                                                     strict=True)])
-    fields = [line.split(None, 1) for line in heads.decode("utf-8", errors="replace").split("\n")]
+    ids, descriptions = _ids_and_descriptions(data, header_starts, header_ends)
     n_rows = sequence_starts.size
     out = buf if consume and buf.flags.writeable else np.empty(n_rows * row_width, dtype=np.uint8)
     step = step_rows(row_width)
-    starts = sequence_starts.tolist()
     for first in range(0, n_rows, step):
         # Row k's codes go to [k W, (k + 1) W), before its own bytes: never over bytes still to be read.
-        chunk = b"".join([data[start:start + row_width] for start in starts[first:first + step]])
+        chunk = b"".join([data[start:start + row_width] for start in sequence_starts[first:first + step].tolist()])
         codes = BYTE_TO_CODE[np.frombuffer(chunk, dtype=np.uint8)]
         if codes.max() >= SPACE:
             _raise_first_bad(data, newlines, codes, sequence_starts[first:first + step], row_width, name)
         out[first * row_width:first * row_width + codes.size] = codes
-    ids = [field[0] for field in fields]
-    descriptions = [field[1].rstrip() if len(field) > 1 else "" for field in fields]
     return ids, descriptions, out[:n_rows * row_width].reshape(n_rows, row_width), {}
+
+
+def _ids_and_descriptions(data: bytes | bytearray, starts: np.ndarray, ends: np.ndarray) -> tuple[list[str], list[str]]:
+    """Each header's id (its first word) and description (the rest, as the careful path splits them), read from
+    one decoded text; a description equal to the previous one is the same string object (less memory on large
+    files, whose descriptions often repeat)."""
+    ids: list[str] = []
+    descriptions: list[str] = []
+    previous = ""
+    for first in range(0, starts.size, _HEADER_STEP):  # in steps, so the temporary objects stay few
+        pairs = zip(starts[first:first + _HEADER_STEP].tolist(), ends[first:first + _HEADER_STEP].tolist(),
+                    strict=True)
+        heads = b"\n".join([data[start + 1:stop] for start, stop in pairs])
+        for line in heads.decode("utf-8", errors="replace").split("\n"):
+            fields = line.split(None, 1)
+            rest = fields[1].rstrip() if len(fields) > 1 else ""
+            if rest == previous:
+                rest = previous
+            ids.append(fields[0])
+            descriptions.append(rest)
+            previous = rest
+    return ids, descriptions
+
+
+#: Headers read at a time by the fast path.
+_HEADER_STEP = 1 << 16
 
 
 _BLANK_OR_NEWLINE = np.array([9, 10, 32], dtype=np.uint8)
