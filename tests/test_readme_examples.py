@@ -137,6 +137,27 @@ def test_readme_summary_line_is_what_columns_prints(workdir):
     assert shown[0] in result.stderr.splitlines()
 
 
+def _shown_outputs() -> list[tuple[str, str]]:
+    """(command, the output block right after it) for README command blocks followed by a plain block that
+    starts with a table header (the examples whose output the README shows)."""
+    blocks = _blocks(README.read_text(encoding="utf-8"))
+    pairs = []
+    for (language, lines), (_, following) in zip(blocks, blocks[1:], strict=False):
+        commands = [line for line in _joined(lines) if _COMMAND.match(line.strip())]
+        if language in ("", "sh", "bash") and len(commands) == 1 and following \
+                and not _COMMAND.match(following[0].strip()) and not following[0].startswith("globcons:"):
+            pairs.append((commands[0].strip(), "\n".join(following)))
+    return pairs
+
+
+@pytest.mark.parametrize("command, shown", _shown_outputs())
+def test_readme_shows_what_the_command_prints(command, shown, workdir):
+    # An output block under a command must be what the command prints now (columns added since drift).
+    result = _run(command, workdir)
+    assert result.returncode == 0, result.stderr
+    assert result.stdout.rstrip("\n") == shown.rstrip("\n"), command
+
+
 def test_readme_group_by_regex_matches_every_demo_id(workdir):
     command = next(c for c in COMMANDS if "--group-by" in c)
     regex = shlex.split(command)[shlex.split(command).index("--group-by") + 1]
