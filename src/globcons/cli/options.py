@@ -18,14 +18,18 @@ from globcons.core.alphabet import RESIDUE_GROUPS
 from globcons.core.classes import ClassRules
 from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, SCHEMES
 from globcons.io.formats import FORMATS, TABLE_FORMATS
+from globcons.phylo.rates import EXACT_MAX_ROWS
 
 if TYPE_CHECKING:
     from globcons.analysis.options import ScoreOptions
+    from globcons.phylo.rates import RateOptions
 
 __all__ = [
     "alignment_argument",
     "frame_options",
     "grouping_options",
+    "rate_options",
+    "rate_settings",
     "reader_options",
     "score_options",
     "scoring_options",
@@ -171,3 +175,25 @@ def grouping_options(command: F) -> F:
         click.option("--conserved-min", type=float, default=0.8, show_default=True,
                      help="Share of a group's residue weight its consensus needs for the group to be conserved."),
     ])
+
+
+def rate_options(command: F) -> F:
+    """--tree, --rates-max-rows and --tree-output: how the per-column rates are estimated and where the tree goes."""
+    return _apply(command, [
+        click.option("--tree", "tree_path", type=click.Path(dir_okay=False, allow_dash=True), default=None,
+                     help="Rates on this Newick tree (leaf names = the alignment's ids; topology kept, branch "
+                          "lengths refitted) instead of a neighbour-joining tree from the alignment."),
+        click.option("--rates-max-rows", type=click.IntRange(3, None), default=EXACT_MAX_ROWS, show_default=True,
+                     help="Rates use every row up to this many; above, a representative subset of this size "
+                          "(weighted by the clusters at --identity)."),
+        click.option("--tree-output", default=None, metavar="FILE",
+                     help="Write the tree the rates used (Newick) here (default: beside the output, "
+                          "<output>.tree.nwk; none for standard output)."),
+    ])
+
+
+def rate_settings(kw: Mapping[str, Any]) -> RateOptions:
+    """The ``RateOptions`` of a command's :func:`rate_options` (and its --identity)."""
+    from globcons.phylo.rates import RateOptions
+
+    return RateOptions(max_rows=kw["rates_max_rows"], identity=kw["identity"])
