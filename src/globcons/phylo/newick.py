@@ -86,12 +86,12 @@ def read_tree(path: str | os.PathLike, ids: Sequence[str]) -> Tree:
     known = set(ids)
     unknown = [name for name in tree.names if name not in known]
     if unknown:
-        raise InputError(f"{len(unknown)} leaves of the tree are not ids of the alignment: {_names_list(unknown)}",
-                         source=source)
+        what = "leaf of the tree is not an id" if len(unknown) == 1 else "leaves of the tree are not ids"
+        raise InputError(f"{len(unknown)} {what} of the alignment: {_names_list(unknown)}", source=source)
     missing = [name for name in ids if name not in set(tree.names)]
     if missing:
-        raise InputError(f"{len(missing)} rows of the alignment are not leaves of the tree: {_names_list(missing)}",
-                         source=source)
+        what = "row of the alignment is not a leaf" if len(missing) == 1 else "rows of the alignment are not leaves"
+        raise InputError(f"{len(missing)} {what} of the tree: {_names_list(missing)}", source=source)
     return tree
 
 

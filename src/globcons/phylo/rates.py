@@ -5,8 +5,8 @@ The pipeline: the rows (all of them up to ``max_rows``, else a representative su
 -> branch lengths and gamma shape by maximum likelihood (:func:`globcons.phylo.fit.fit_tree`, four
 categories) -> for every column, the posterior over ``posterior_categories`` equal-probability slices of
 the fitted gamma (a finer quadrature of the same prior): its mean is the column's relative rate (the
-prior mean is 1) and its quantiles the credible interval. Empirical Bayes in the sense of Nielsen & Yang
-(1998) and Mayrose et al. (2004 Mol Biol Evol 21:1781): the tree and alpha are fixed at their estimates.
+prior mean is 1) and its quantiles the credible interval. Empirical Bayes as in Yang (1994 J Mol Evol
+39:306): the tree and alpha are fixed at their estimates, so their uncertainty is not carried.
 """
 
 from __future__ import annotations

@@ -8,6 +8,8 @@ and the logos of each helix, and writes into a folder:
   data, with autoescaping on (sequence ids and annotations are user input);
 - ``columns.tsv`` (+ ``columns.tsv.meta.json``), ``columns.md``, ``columns.tex`` (booktabs);
 - ``profile.svg``, ``profile.png`` and ``logo_<helix>.svg``;
+- with ``rates=``, the rate columns in the tables (:mod:`globcons.analysis.rate_columns`), ``tree.nwk``
+  (the tree they used) and ``rates_profile.svg``/``.png``, also shown in the HTML;
 - ``methods.md``: the methods paragraph, generated from the options actually used, with its citations
   (:mod:`globcons.report.methods`);
 - with a grouping (``contrast=``), ``contrast.tsv`` (+ meta) and ``contrast.svg``/``contrast.png``: the
@@ -31,6 +33,7 @@ from globcons._version import __version__
 from globcons.analysis.columns import score_columns
 from globcons.analysis.contrast import assign_groups, contrast_columns, top_contrast
 from globcons.analysis.options import ScoreOptions
+from globcons.analysis.rate_columns import add_rate_columns
 from globcons.core.alignment import Alignment
 from globcons.core.labels import HELICES, segment_of
 from globcons.core.vocabulary import CAUTION, CONTRAST_CLASSES
@@ -54,7 +57,7 @@ __all__ = ["ReportResult", "write_report"]
 
 _NUMERIC = {"column", "ref_position", "support", "conservation", "property_conservation", "entropy_bits",
             "entropy_norm", "property_entropy", "jsd", "gap_fraction",
-            "unknown_fraction", "n_eff"}
+            "unknown_fraction", "n_eff", "rate", "rate_low", "rate_high"}
 
 
 @dataclass(frozen=True)
@@ -138,13 +141,20 @@ def _write_tables(table: pd.DataFrame, folder: Path, inputs: list) -> list[str]:
     return files
 
 
-def _write_profile(table: pd.DataFrame, folder: Path, inputs: list, files: list[str]) -> str:
-    """Write profile.svg and .png; return the SVG as a data URI."""
-    figure = draw_profile(table)
+def _write_profile(table: pd.DataFrame, folder: Path, inputs: list, files: list[str], score: str = "conservation",
+                   name: str = "profile") -> str:
+    """Write <name>.svg and .png of a score's profile; return the SVG as a data URI."""
+    figure = draw_profile(table, score=score)
     for ext in ("svg", "png"):
-        save_figure(figure, folder / f"profile.{ext}", inputs)
-        files.append(str(folder / f"profile.{ext}"))
-    return _data_uri(folder / "profile.svg", "image/svg+xml")
+        save_figure(figure, folder / f"{name}.{ext}", inputs)
+        files.append(str(folder / f"{name}.{ext}"))
+    return _data_uri(folder / f"{name}.svg", "image/svg+xml")
+
+
+def _write_tree(newick: str, folder: Path, inputs: list, files: list[str]) -> None:
+    with atomic_output(folder / "tree.nwk", inputs) as stream:
+        stream.write(newick + "\n")
+    files.append(str(folder / "tree.nwk"))
 
 
 def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, inputs: list,
@@ -168,7 +178,7 @@ def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, in
 
 
 def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo_uris: list[tuple[str, str]],
-                 methods: str, references: list[str], contrast_section: dict | None) -> str:
+                 methods: str, references: list[str], contrast_section: dict | None, rates_uri: str = "") -> str:
     from jinja2 import Environment  # only the report needs templates
 
     meta = table.attrs
@@ -187,13 +197,14 @@ def _render_html(table: pd.DataFrame, aligned: Alignment, profile_uri: str, logo
         sites=table[table["sites"] != ""].to_dict("records"),
         low_data=meta["low_data_columns"], min_neff=f"{meta['rules']['min_neff']:g}", notes=notes,
         table_columns=list(table.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
-        citations=references, contrast=contrast_section,
+        citations=references, contrast=contrast_section, rates_uri=rates_uri,
+        rates_summary=(meta.get("rates") or {}).get("summary", ""),
     )
 
 
 def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.PathLike,
                  options: ScoreOptions | None = None, fmt: str | None = None, keep_inserts: bool = False,
-                 logos: bool = True, contrast: dict | None = None) -> ReportResult:
+                 logos: bool = True, contrast: dict | None = None, rates: dict | None = None) -> ReportResult:
     """Write the report of an alignment into ``out_dir`` (created if missing).
 
     Parameters
@@ -210,6 +221,10 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         Add the group contrast: keyword arguments ``groups_file`` or ``group_by`` (see
         :func:`globcons.analysis.contrast.assign_groups`) and optionally ``min_group_neff``, ``permutations``,
         ``seed``, ``conserved_min``, ``top`` (positions shown, default 12).
+    rates
+        Add the per-column rates: keyword arguments of
+        :func:`globcons.analysis.rate_columns.add_rate_columns` (``options``, ``tree_path``); ``{}`` for
+        the defaults.
     """
     folder = Path(out_dir)
     if folder.exists() and not folder.is_dir():
@@ -219,9 +234,16 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
                                                                                  keep_inserts=keep_inserts)
     options = options or ScoreOptions()
     table = score_columns(aligned, options)
+    if rates is not None:
+        table, _ = add_rate_columns(table, aligned, **rates)
+        inputs = inputs + [rates.get("tree_path")] if rates.get("tree_path") else inputs
     folder.mkdir(parents=True, exist_ok=True)
     files = _write_tables(table, folder, inputs)
     profile_uri = _write_profile(table, folder, inputs, files)
+    rates_uri = ""
+    if rates is not None:
+        _write_tree(table.attrs["rates"]["tree_newick"], folder, inputs, files)
+        rates_uri = _write_profile(table, folder, inputs, files, score="rates", name="rates_profile")
     logo_uris = _write_helix_logos(aligned, table, folder, inputs, files) if logos else []
     contrast_section = None
     methods, references = methods_text(table), citations(table.attrs)
@@ -233,7 +255,7 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
         stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
                      + "\n".join(f"- {c}" for c in references) + "\n")
     files.append(str(folder / "methods.md"))
-    html = _render_html(table, aligned, profile_uri, logo_uris, methods, references, contrast_section)
+    html = _render_html(table, aligned, profile_uri, logo_uris, methods, references, contrast_section, rates_uri)
     with atomic_output(folder / "report.html", inputs) as stream:
         stream.write(html)
     files.insert(0, str(folder / "report.html"))
