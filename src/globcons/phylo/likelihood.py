@@ -66,10 +66,12 @@ def tip_states(codes: np.ndarray) -> np.ndarray:
     return np.where(codes < N_STANDARD, codes, MISSING).astype(np.intp)
 
 
-def _padded(p: np.ndarray) -> np.ndarray:
-    """(..., 20, 20) -> (..., 20, 21): a last column of ones, the message of a missing leaf state."""
-    ones = np.ones(p.shape[:-1] + (1,))
-    return np.concatenate((p, ones), axis=-1)
+def _leaf_rows(p: np.ndarray) -> np.ndarray:
+    """(..., 20, 20) -> (..., 21, 20): row ``s`` holds ``P[:, s]`` (the message of a leaf in state ``s``), and
+    row 20, all ones, the message of missing data; indexing it with a leaf's states gives (..., L, 20)."""
+    rows = np.swapaxes(p, -1, -2)
+    ones = np.ones(rows.shape[:-2] + (1, rows.shape[-1]))
+    return np.ascontiguousarray(np.concatenate((rows, ones), axis=-2))
 
 
 def _transitions(tree: Tree, model: RateModel) -> np.ndarray:
@@ -77,18 +79,15 @@ def _transitions(tree: Tree, model: RateModel) -> np.ndarray:
     return model.eigen.transition(tree.lengths[:, None] * model.rates[None, :])
 
 
-def _leaf_message(padded: np.ndarray, states: np.ndarray) -> np.ndarray:
-    """(K, 20, 21) transition rows gathered at a leaf's states: (K, L, 20)."""
-    return padded[:, :, states].transpose(0, 2, 1)
-
-
-def _down_pass(tree: Tree, states: np.ndarray, model: RateModel,
-               p: np.ndarray) -> tuple[dict[int, np.ndarray], np.ndarray]:
-    """Scaled partials of every internal node (K, L, 20) and the summed log scale factors (L,)."""
+def _down_pass(tree: Tree, states: np.ndarray, p: np.ndarray,
+               keep: bool = False) -> tuple[dict[int, np.ndarray], np.ndarray, dict[int, np.ndarray]]:
+    """Scaled partials of every internal node (K, L, 20), the summed log scale factors (L,) and, with
+    ``keep``, the message every non-root node sends its parent (else an empty dict)."""
     if tree.n_leaves < 2:
         raise ValueError("a tree needs at least two leaves")
-    padded = _padded(p[:tree.n_leaves])
+    leaf_rows = _leaf_rows(p[:tree.n_leaves])
     down: dict[int, np.ndarray] = {}
+    messages: dict[int, np.ndarray] = {}
     log_scale = np.zeros(states.shape[1])
     for node in range(tree.n_nodes):
         if node >= tree.n_leaves:
@@ -101,13 +100,15 @@ def _down_pass(tree: Tree, states: np.ndarray, model: RateModel,
                 break
             message = partial @ p[node].transpose(0, 2, 1)
         else:
-            message = _leaf_message(padded[node], states[node])
+            message = leaf_rows[node][:, states[node], :]
+        if keep:
+            messages[node] = message
         up = int(tree.parent[node])
         if up in down:
-            down[up] *= message
+            down[up] = down[up] * message
         else:
-            down[up] = message
-    return down, log_scale
+            down[up] = message.copy()
+    return down, log_scale, messages
 
 
 def site_likelihoods(tree: Tree, states: np.ndarray, model: RateModel) -> SiteLikelihoods:
@@ -123,7 +124,7 @@ def site_likelihoods(tree: Tree, states: np.ndarray, model: RateModel) -> SiteLi
         Eigen system and category rates.
     """
     p = _transitions(tree, model)
-    down, log_scale = _down_pass(tree, states, model, p)
+    down, log_scale, _ = _down_pass(tree, states, p)
     scaled = down[tree.root] @ model.eigen.frequencies  # (K, L)
     return SiteLikelihoods(scaled, log_scale)
 
@@ -142,40 +143,37 @@ def log_likelihood_and_gradient(tree: Tree, states: np.ndarray, model: RateModel
         The log-likelihood and the gradient, shape (n_nodes,) (0 for the root).
     """
     p = _transitions(tree, model)
-    dp = model.eigen.transition_derivative(tree.lengths[:, None] * model.rates[None, :]) * model.rates[None, :,
-                                                                                                          None, None]
-    down, log_scale = _down_pass(tree, states, model, p)
+    dp = model.eigen.transition_derivative(tree.lengths[:, None] * model.rates[None, :])
+    dp *= model.rates[None, :, None, None]  # d/dt P(r t) = r Q P(r t)
+    down, log_scale, sent = _down_pass(tree, states, p, keep=True)
     weights = model.weights
-    root_partial = down[tree.root]
-    site = weights @ (root_partial @ model.eigen.frequencies)
+    site = weights @ (down[tree.root] @ model.eigen.frequencies)
     log_likelihood = float(np.log(site).sum() + log_scale.sum())
-    padded, padded_dp = _padded(p[:tree.n_leaves]), np.concatenate(
-        (dp[:tree.n_leaves], np.zeros(dp[:tree.n_leaves].shape[:-1] + (1,))), axis=-1)
+    leaf_slopes = _leaf_rows(dp[:tree.n_leaves])
+    leaf_slopes[..., -1, :] = 0.0  # missing data: the row of ones does not change with t
     gradient = np.zeros(tree.n_nodes)
     children = tree.children()
-    shape = (model.rates.size, states.shape[1], N_STANDARD)
-    above = {tree.root: np.broadcast_to(model.eigen.frequencies, shape)}
-
-    def messages(node: int) -> tuple[np.ndarray, np.ndarray]:
-        if node < tree.n_leaves:
-            return _leaf_message(padded[node], states[node]), _leaf_message(padded_dp[node], states[node])
-        return down[node] @ p[node].transpose(0, 2, 1), down[node] @ dp[node].transpose(0, 2, 1)
-
+    above = {tree.root: np.broadcast_to(model.eigen.frequencies, down[tree.root].shape)}
     for node in range(tree.n_nodes - 1, tree.n_leaves - 1, -1):
         outside = above.pop(node)
         kids = children[node]
-        pairs = [messages(int(child)) for child in kids]
-        for index, child in enumerate(kids):
-            rest = outside.copy()
-            for other, (message, _) in enumerate(pairs):
-                if other != index:
-                    rest *= message
-            message, derivative = pairs[index]
-            value = weights @ np.einsum("klj,klj->kl", rest, message)
-            slope = weights @ np.einsum("klj,klj->kl", rest, derivative)
+        for child in kids:
+            rest = outside
+            for other in kids:
+                if other != child:
+                    rest = rest * sent[int(other)]
+            if child < tree.n_leaves:
+                slope_message = leaf_slopes[child][:, states[child], :]
+            else:
+                slope_message = down[int(child)] @ dp[child].transpose(0, 2, 1)
+            value = weights @ np.einsum("klj,klj->kl", rest, sent[int(child)])
+            slope = weights @ np.einsum("klj,klj->kl", rest, slope_message)
             gradient[child] = float((slope / value).sum())
             if child >= tree.n_leaves:
                 upper = rest @ p[child]
                 peak = upper.max(axis=(0, 2))
                 above[int(child)] = upper / np.where(peak > 0, peak, 1.0)[None, :, None]
+        for child in kids:  # what the subtrees below have sent is used: free it as the pass goes
+            sent.pop(int(child))
+            down.pop(int(child), None)
     return log_likelihood, gradient
