@@ -218,6 +218,13 @@ def test_neighbour_joining_recovers_an_additive_tree():
     np.testing.assert_allclose(_path_lengths(tree.newick(), names), distances, atol=1e-5)
 
 
+def test_three_rows_make_a_star_with_the_three_point_lengths():
+    names = ["a", "b", "c"]
+    text = "(a:0.1,b:0.25,c:0.4);"
+    tree = neighbour_joining_tree(_path_lengths(text, names), tuple(names))
+    np.testing.assert_allclose(_path_lengths(tree.newick(), names), _path_lengths(text, names), atol=1e-6)
+
+
 def test_model_distance_inverts_the_expected_identity_under_the_model():
     """The distance d of a pair satisfies 1 - sum_k w_k sum_i pi_i P_ii(r_k d) = p (expm as the reference)."""
     first = codes_of("MVLSEGEWQLVLHVWAKVEADVAGHGQDILIRLFKSHPETLEKF")
@@ -463,3 +470,23 @@ def test_profile_and_paint_take_the_rates_score(tmp_path, capsys, demo_rates):
     assert -1.0 in values and any(0.0 < v < 5.0 for v in values)  # rates where mapped, the sentinel elsewhere
     his = painted[0]["A"][HIS_F8]["CA"].get_bfactor()
     assert his == pytest.approx(round(float(demo_rates[0]["rate"].iloc[F8_COLUMN - 1]), 2), abs=0.0051)
+
+
+def test_report_with_rates_writes_the_tree_the_profile_and_the_methods(tmp_path):
+    from globcons.report.html import write_report
+
+    result = write_report(DEMO, tmp_path / "report", logos=False, rates={})
+    folder = tmp_path / "report"
+    for name in ("tree.nwk", "rates_profile.svg", "rates_profile.png", "columns.tsv", "methods.md"):
+        assert (folder / name).is_file(), name
+    assert {"rate", "rate_low", "rate_high"} <= set(result.table.columns)
+    assert (folder / "tree.nwk").read_text().strip() == result.table.attrs["rates"]["tree_newick"]
+    methods = (folder / "methods.md").read_text()
+    assert "under the LG model (Le and Gascuel 2008) with 4 discrete gamma rate categories (Yang 1994)" in methods
+    assert "Le SQ, Gascuel O (2008)" in methods and "Saitou N, Nei M (1987)" in methods
+    assert f"alpha = {result.table.attrs['rates']['alpha']:.3g}" in methods
+    html = (folder / "report.html").read_text()
+    assert 'id="rates"' in html and "rates: LG+G4" in html
+    plain = write_report(DEMO, tmp_path / "plain", logos=False)
+    assert "rate" not in plain.table.columns and not (tmp_path / "plain" / "tree.nwk").exists()
+    assert "LG model" not in (tmp_path / "plain" / "methods.md").read_text()

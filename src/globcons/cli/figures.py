@@ -108,7 +108,7 @@ def profile(alignment: str, output: str, score: str, title: str | None, fmt: str
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
     table = score_columns(aligned, score_options(kw))
     if score == "rates":
-        table = with_rates(table, aligned, kw, [alignment, kw.get("tree_path"), output])
+        table = with_rates(table, aligned, kw, [alignment, kw.get("tree_path"), output], reporter.info)
     draw_profile(table, output, score=score, title=title, inputs=[alignment, kw.get("sites_path")])
     labelled = int((table["frame_label"] != "").sum())
     shown = labelled or len(table)

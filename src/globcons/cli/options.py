@@ -220,8 +220,12 @@ def rate_settings(kw: Mapping[str, Any]) -> RateOptions:
     return RateOptions(max_rows=kw["rates_max_rows"], identity=kw["identity"])
 
 
-def with_rates(table: pd.DataFrame, aligned: Alignment, kw: Mapping[str, Any], inputs: Sequence = ()) -> pd.DataFrame:
-    """The table with the rate columns (``--score rates`` of profile and paint); the tree to --tree-output if given."""
+def with_rates(table: pd.DataFrame, aligned: Alignment, kw: Mapping[str, Any], inputs: Sequence = (),
+               say: Callable[[str], None] | None = None) -> pd.DataFrame:
+    """The table with the rate columns (``--score rates`` of profile and paint); the tree to --tree-output if given.
+
+    ``say`` (a reporter's ``info``) is told how the rates were made, a subset included.
+    """
     from globcons.analysis.rate_columns import add_rate_columns
     from globcons.io.atomic import check_not_input
     from globcons.phylo.newick import write_newick
@@ -231,4 +235,6 @@ def with_rates(table: pd.DataFrame, aligned: Alignment, kw: Mapping[str, Any], i
     table, result = add_rate_columns(table, aligned, rate_settings(kw), kw.get("tree_path"))
     if kw.get("tree_output") is not None:
         write_newick(result.fit.tree, kw["tree_output"], inputs)
+    if say is not None:
+        say(result.describe())
     return table

@@ -51,7 +51,7 @@ def paint(structure: str, alignment_path: str, chain: str | None, score: str, un
     aligned = read_alignment(alignment_path, format=fmt, keep_inserts=keep_inserts)
     table = score_columns(aligned, options)
     if score == "rates":
-        table = with_rates(table, aligned, kw, [*inputs, output])
+        table = with_rates(table, aligned, kw, [*inputs, output], reporter.info)
     result = paint_structure(structure, aligned, table, output, chain=chain, score=score,
                              unmapped=unmapped_value, inputs=[alignment_path])
     reporter.info(result.describe())

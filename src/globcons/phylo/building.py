@@ -72,6 +72,11 @@ def neighbour_joining_tree(distances: np.ndarray, names: tuple[str, ...]) -> Tre
     if len(names) == 2:
         half = float(distances[0, 1]) / 2
         return tree_from_links([-1, 0, 0], [0.0, half, half], ["", names[0], names[1]])
+    if len(names) == 3:  # biotite needs four; three leaves make one star, lengths by the three-point formula
+        d = distances
+        lengths = [(d[0, 1] + d[0, 2] - d[1, 2]) / 2, (d[0, 1] + d[1, 2] - d[0, 2]) / 2,
+                   (d[0, 2] + d[1, 2] - d[0, 1]) / 2]
+        return tree_from_links([-1, 0, 0, 0], [0.0, *map(float, lengths)], ["", *names])
     result = neighbor_joining(np.ascontiguousarray(distances, dtype=np.float64))
     parent, lengths, labels = [-1], [0.0], [""]
     stack = [(result.root, 0)]
