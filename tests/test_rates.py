@@ -153,6 +153,27 @@ def test_three_sequence_likelihood_sums_over_the_inner_state():
         assert got[column] == pytest.approx(np.log(total), rel=1e-10)
 
 
+def test_four_leaves_equal_the_sum_over_both_inner_states():
+    """((a,b),(c,d)) unrooted: L = sum_k w_k sum_xy pi_x P_xa P_xb P_xy P_yc P_yd, every P from scipy's expm."""
+    tree = parse_newick("(a:0.2,b:0.05,(c:0.3,d:0.12):0.4);")
+    rows = dict(zip("abcd", ["MHLVKW", "MQLIKW", "MHAF-Y", "LHAFRG"], strict=True))
+    rates = discrete_gamma_rates(0.9)
+    model = RateModel(LG.eigen(), rates)
+    got = site_likelihoods(tree, states_for(tree, rows), model).column_log_likelihood(model.weights)
+    q, pi = LG.rate_matrix(), LG.frequencies
+
+    def leaf(letter, t, r):
+        return expm(q * r * t)[:, index(letter)] if letter != "-" else np.ones(20)
+
+    for column in range(6):
+        total = 0.0
+        for r in rates:
+            x_side = pi * leaf(rows["a"][column], 0.2, r) * leaf(rows["b"][column], 0.05, r)  # over x
+            y_side = leaf(rows["c"][column], 0.3, r) * leaf(rows["d"][column], 0.12, r)      # over y
+            total += x_side @ expm(q * r * 0.4) @ y_side / rates.size
+        assert got[column] == pytest.approx(np.log(total), rel=1e-10)
+
+
 def test_a_rooted_tree_and_its_unrooted_form_have_the_same_likelihood():
     rows = dict(zip("abcd", ["MHLVK", "MQLIK", "MHAFR", "LHAFK"], strict=True))
     rooted = parse_newick("((a:0.1,b:0.2):0.05,(c:0.3,d:0.15):0.1);")
