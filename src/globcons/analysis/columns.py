@@ -50,7 +50,7 @@ SHOWN_SCORES: dict[str, str] = {
     "property_conservation": "property conservation: (1 - property-class entropy / log2 6) x (1 - gap fraction)",
     "jsd": "Jensen-Shannon divergence from the BLOSUM62 background x (1 - gap fraction), bits",
     "n_eff": "effective sequences with a residue (clusters at the identity threshold)",
-    "rates": "evolutionary rate: posterior mean, 1 = average column (lower = slower, more conserved)",
+    "rates": "evolutionary rate: posterior mean, lower = more conserved",
 }
 
 #: The table column behind each shown score, where its name differs (the rates live in ``rate``, added
