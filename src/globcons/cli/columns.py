@@ -93,6 +93,9 @@ def _rate_table(alignment: str, options: ScoreOptions, fmt: str | None, keep_ins
     tree_file = tree_output_path(output, tree_output)
     if tree_file is not None:
         check_not_input(tree_file, [alignment, tree_path])
+        if output is not None and os.path.abspath(tree_file) in {os.path.abspath(output),
+                                                                 os.path.abspath(f"{output}.meta.json")}:
+            raise click.UsageError(f"--tree-output {tree_file} would overwrite the table or its metadata")
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
     table, result = add_rate_columns(score_columns(aligned, options), aligned, rate_settings(kw), tree_path)
     if result.subset:
