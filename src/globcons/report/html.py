@@ -93,7 +93,7 @@ def _options_list(table: pd.DataFrame, alignment: Alignment) -> list[tuple[str, 
         ("low-data below", f"{rules['min_neff']:g} effective sequences"),
         ("JSD window", str(meta["window"])),
         ("frame", frame.get("note") or "not tied"),
-    ]
+    ] + ([("evolutionary rates", meta["rates"]["summary"])] if meta.get("rates") else [])
 
 
 def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, settings: dict, inputs: list,
