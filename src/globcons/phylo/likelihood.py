@@ -6,8 +6,8 @@ pre-order for the gradient). Each internal node's partials are rescaled per colu
 the logarithms of the scale factors summed, so thousands of leaves never underflow. A leaf's partial is
 the indicator of its residue; a gap or an unknown residue is missing data (all states possible).
 
-Felsenstein J (1981) J Mol Evol 17:368 (pruning); the gradient uses the partials above and below each
-branch (the two passes of the same paper's algorithm).
+Felsenstein J (1981) J Mol Evol 17:368 (pruning). The gradient multiplies, for each branch, the partial
+below it (from the post-order pass) with the partial of everything above it (from a pre-order pass).
 """
 
 from __future__ import annotations
