@@ -78,8 +78,8 @@ def test_lg_frequencies_as_in_the_distributed_file():
 
 def test_lg_matches_the_independent_copy_in_pyvolve():
     """pyvolve 1.1.0 ships LG in alphabetical order (globcons' order): every entry and its rate matrix agree."""
-    empirical = pytest.importorskip("pyvolve.empirical_matrices")
-    pyvolve = pytest.importorskip("pyvolve")
+    import pyvolve  # a test dependency (pyproject's test extra)
+    from pyvolve import empirical_matrices as empirical
     np.testing.assert_allclose(LG.exchangeabilities, np.array(empirical.lg_matrix), rtol=0, atol=5e-7)
     np.testing.assert_allclose(LG.frequencies, np.array(empirical.lg_freqs), rtol=1e-5)
     theirs = pyvolve.Model("LG").extract_rate_matrix()
@@ -231,6 +231,13 @@ def test_newick_round_trip_keeps_every_path_length_bio_phylo_measures():
     assert np.all(tree.parent[:-1] > np.arange(tree.n_nodes - 1))  # post-order numbering
 
 
+def test_names_with_newick_characters_survive_the_round_trip():
+    """Ids are free text: quoted (a quote doubled) so that Bio.Phylo reads them back as they were."""
+    names = ["it's", "a b:c", "x[1]", "p(2),q;"]
+    tree = tree_from_links([-1, 0, 0, 0, 0], [0.0, 0.1, 0.2, 0.3, 0.4], ["", *names])
+    assert parse_newick(tree.newick()).names == tuple(names)
+
+
 def test_neighbour_joining_recovers_an_additive_tree():
     text = "((a:0.1,b:0.2):0.05,(c:0.3,(d:0.15,e:0.4):0.2):0.1,(f:0.05,g:0.6):0.3);"
     names = list("abcdefg")
@@ -301,7 +308,8 @@ def _coalescent_newick(n: int, depth: float, rng: np.random.Generator) -> str:
 def simulated(tmp_path_factory):
     """200 sequences x 300 columns simulated by pyvolve under LG along a known tree; per-column rates drawn
     from 12 equal-probability gamma(0.8) quantiles, read back from pyvolve's rate file."""
-    pyvolve = pytest.importorskip("pyvolve")
+    import pyvolve  # a test dependency (pyproject's test extra)
+
     rng = np.random.default_rng(7)
     newick = _coalescent_newick(200, 1.0, rng)
     factors = gamma_distribution.ppf((np.arange(12) + 0.5) / 12, a=0.8, scale=1 / 0.8)
