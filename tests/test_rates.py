@@ -540,3 +540,13 @@ def test_report_with_rates_writes_the_tree_the_profile_and_the_methods(tmp_path)
     plain = write_report(DEMO, tmp_path / "plain", logos=False)
     assert "rate" not in plain.table.columns and not (tmp_path / "plain" / "tree.nwk").exists()
     assert "LG model" not in (tmp_path / "plain" / "methods.md").read_text()
+
+
+def test_columns_says_when_the_rates_use_a_subset(tmp_path, capsys):
+    out = tmp_path / "c.tsv"
+    assert main(["columns", DEMO, "--rates", "--rates-max-rows", "20", "-o", str(out)]) == 0
+    err = capsys.readouterr().err
+    assert "48 rows are more than --rates-max-rows 20; the tree and rates use a representative subset of 20" in err
+    meta = json.loads((tmp_path / "c.tsv.meta.json").read_text())["rates"]
+    assert (meta["subset"], meta["rows_used"], meta["exact_max_rows"]) == (True, 20, 20)
+    assert len(parse_newick((tmp_path / "c.tsv.tree.nwk").read_text()).names) == 20
