@@ -550,3 +550,10 @@ def test_columns_says_when_the_rates_use_a_subset(tmp_path, capsys):
     meta = json.loads((tmp_path / "c.tsv.meta.json").read_text())["rates"]
     assert (meta["subset"], meta["rows_used"], meta["exact_max_rows"]) == (True, 20, 20)
     assert len(parse_newick((tmp_path / "c.tsv.tree.nwk").read_text()).names) == 20
+
+
+def test_a_fit_stopped_by_the_iteration_cap_says_so():
+    result = column_rates(read_alignment(DEMO), RateOptions(max_iterations=3))
+    assert result.fit.converged is False and result.fit.iterations == 3
+    assert result.metadata()["branch_fit_converged"] is False
+    assert result.describe().endswith("the branch lengths stopped after 3 iterations before meeting the tolerance")

@@ -103,8 +103,12 @@ class ColumnRates:
         """One line for the summary."""
         used = (f"a representative subset of {self.rows.size} rows (weighted by clusters at "
                 f"{self.options.identity:.0%} identity)" if self.subset else f"all {self.rows.size} rows")
-        return (f"rates: {self.options.model}+G{self.options.categories} (alpha {self.fit.alpha:.3g}) on "
+        line = (f"rates: {self.options.model}+G{self.options.categories} (alpha {self.fit.alpha:.3g}) on "
                 f"{used}, tree by {self.tree_source}, total length {self.fit.tree.total_length():.3g}")
+        if not self.fit.converged:
+            line += (f"; the branch lengths stopped after {self.fit.iterations} iterations before meeting the "
+                     "tolerance")
+        return line
 
     def metadata(self) -> dict[str, object]:
         """What the table's metadata records about the rates."""
