@@ -10,6 +10,7 @@ $(STAMP): pyproject.toml
 	@test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
 	$(BIN)/python -m pip install --quiet -e '.[test]'
+	$(BIN)/python -m compileall -q src  # byte-compiled once here, so no command pays for it on first use
 	@touch $(STAMP)
 
 demo: $(STAMP)

@@ -7,12 +7,15 @@ Synthetic alignments of 300 columns (no real data), in two shapes:
 - ``clustered``: 40% of the rows are near-copies (one substitution in 100 columns) of a few hundred
   parents, the rest diverse: the case the effective number exists for.
 
-For each size the script times the exact count (every pair, :func:`globcons.core.weights.exact_neighbours`)
-where it is affordable and the sampled estimate (every row against a fixed sample); where both run, it
-prints the estimate's relative error on the total. Timings are of the counting alone (the alignment is
-built in memory first). Usage:
+For each size the script times the exact count (every pair, :func:`globcons.core.neighbours.exact_neighbours`)
+where it is affordable, the ``estimated`` effective number of the column table (a fixed sample of rows, each
+compared with every row: unbiased, with its standard error) and the per-row ``sampled`` counts behind
+``--weights cluster`` (every row against a fixed sample); where the exact count runs, it prints each
+estimate's relative error on the total. Timings are of the counting alone (the alignment is built in
+memory first). Usage:
 
-    python benchmarks/bench_neff.py [--rows 5000,20000,50000,200000] [--exact-max 50000] [--sample 2000]
+    python benchmarks/bench_neff.py [--rows 5000,20000,50000,200000] [--exact-max 20000] [--queries 128]
+        [--sample 2000] [--no-per-row]
 """
 
 from __future__ import annotations
@@ -24,7 +27,7 @@ import time
 
 import numpy as np
 
-from globcons.core.weights import NEFF_SAMPLE_ROWS, neighbour_counts
+from globcons.core.neighbours import NEFF_QUERY_ROWS, NEFF_SAMPLE_ROWS, estimate_neighbours, neighbour_counts
 
 
 def make_codes(rows: int, columns: int, shape: str, seed: int = 7) -> np.ndarray:
@@ -51,25 +54,36 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--rows", default="5000,20000,50000,200000")
     parser.add_argument("--columns", type=int, default=300)
-    parser.add_argument("--exact-max", type=int, default=50000, help="time the exact count up to this many rows")
+    parser.add_argument("--exact-max", type=int, default=20000, help="time the exact count up to this many rows")
+    parser.add_argument("--queries", type=int, default=NEFF_QUERY_ROWS)
     parser.add_argument("--sample", type=int, default=NEFF_SAMPLE_ROWS)
+    parser.add_argument("--no-per-row", action="store_true", help="skip the per-row sampled counts")
     args = parser.parse_args()
     memory = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") / 2**30
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, {memory:.0f} GiB, Python "
           f"{platform.python_version()}, numpy {np.__version__}")
-    print(f"| rows x columns | shape | exact s | exact n_eff | sampled s ({args.sample:,} rows) | sampled n_eff | "
-          "error |")
-    print("|---:|---|---:|---:|---:|---:|---:|")
+    print(f"| rows x columns | shape | exact s | exact n_eff | estimated s ({args.queries} rows) | estimated n_eff "
+          f"(± s.e.) | error | per-row sampled s ({args.sample:,} rows) | sampled n_eff | error |")
+    print("|---:|---|---:|---:|---:|---:|---:|---:|---:|---:|")
     for rows in (int(r) for r in args.rows.split(",")):
         for shape in ("diverse", "clustered"):
             codes = make_codes(rows, args.columns, shape)
             exact, exact_s = (timed(neighbour_counts, codes, exact_max_rows=rows) if rows <= args.exact_max
                               else (None, float("nan")))
-            sampled, sampled_s = timed(neighbour_counts, codes, exact_max_rows=0, sample_size=args.sample)
+            estimated, estimated_s = timed(estimate_neighbours, codes, exact_max_rows=0, query_rows=args.queries)
             exact_text = f"{exact_s:.2f} | {exact.n_eff:,.0f}" if exact else "- | -"
-            error = f"{sampled.n_eff / exact.n_eff - 1:+.1%}" if exact else "-"
-            print(f"| {rows:,} x {args.columns} | {shape} | {exact_text} | {sampled_s:.2f} | {sampled.n_eff:,.0f} | "
-                  f"{error} |", flush=True)
+            line = (f"| {rows:,} x {args.columns} | {shape} | {exact_text} | {estimated_s:.2f} | "
+                    f"{estimated.n_eff:,.0f} ± {estimated.standard_error:,.0f} | {_error(estimated, exact)} |")
+            if args.no_per_row:
+                line += " - | - | - |"
+            else:
+                sampled, sampled_s = timed(neighbour_counts, codes, exact_max_rows=0, sample_size=args.sample)
+                line += f" {sampled_s:.2f} | {sampled.n_eff:,.0f} | {_error(sampled, exact)} |"
+            print(line, flush=True)
+
+
+def _error(estimate, exact) -> str:
+    return f"{estimate.n_eff / exact.n_eff - 1:+.1%}" if exact else "-"
 
 
 if __name__ == "__main__":

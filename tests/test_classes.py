@@ -190,3 +190,37 @@ def test_at_three_rows_no_planted_column_is_confidently_invariant():
     table = score_columns(alignment, frame=False)
     assert "invariant" not in set(table["class"])
     assert table["low_data"].all()
+
+
+def test_the_incomplete_beta_agrees_with_scipy_over_a_wide_grid():
+    # Reference implementation: scipy.special.betainc (Cephes). Parameters from 1e-12 to 1e7 cover
+    # prior-only columns up to a million effective sequences.
+    from scipy.special import betainc
+
+    from globcons.core.incomplete_beta import regularized_incomplete_beta
+
+    rng = np.random.default_rng(21)
+    a = 10 ** rng.uniform(-12, 7, 4000)
+    b = 10 ** rng.uniform(-12, 7, 4000)
+    for x in (0.01, 0.2, 0.5, 0.8, 0.95, 0.999):
+        np.testing.assert_allclose(regularized_incomplete_beta(a, b, x), betainc(a, b, x), rtol=0, atol=1e-8)
+    # Worked values: I_x(1, 1) = x; I_x(a, 1) = x**a; I_0.5(a, a) = 1/2 (symmetry).
+    np.testing.assert_allclose(regularized_incomplete_beta(1.0, 1.0, [0.0, 0.3, 1.0]), [0.0, 0.3, 1.0])
+    np.testing.assert_allclose(regularized_incomplete_beta(3.0, 1.0, 0.8), 0.8 ** 3)
+    np.testing.assert_allclose(regularized_incomplete_beta([2.5, 40.0, 3e5], [2.5, 40.0, 3e5], 0.5), 0.5)
+
+
+def test_matrices_read_from_biopythons_files_equal_biopythons_own():
+    # Reference: Bio.Align.substitution_matrices.load, for every matrix Biopython ships.
+    from globcons.core.matrices import load_matrix, shipped_matrices
+
+    assert list(shipped_matrices()) == sorted(substitution_matrices.load())
+    for name in shipped_matrices():
+        theirs = substitution_matrices.load(name)
+        try:
+            ours = load_matrix(name)
+        except OptionError:
+            assert not set(STANDARD) <= set(theirs.alphabet)  # refused only when not a protein matrix
+            continue
+        assert ours.alphabet == "".join(theirs.alphabet)
+        assert all(ours[a][b] == theirs[a][b] for a in ours.alphabet for b in ours.alphabet)

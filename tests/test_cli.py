@@ -165,9 +165,14 @@ def test_columns_tex_booktabs(capsys, aln):
     for rule in (r"\toprule", r"\midrule", r"\bottomrule"):
         assert rule in out
     assert out.index(r"\toprule") < out.index(r"\midrule")
-    assert r"low\_data" in out and r"entropy\_bits" in out  # '_' escaped for LaTeX
+    # the page-wide paper table (see test_paper_outputs.py): its chosen columns, '_' escaped for LaTeX
+    assert r"col. & label & class & supp. & res. & cons. & gaps & n\_eff & sites \\" in out
     body = [line for line in out.splitlines() if line.endswith(r"\\") and line.split(" & ")[0].strip().isdigit()]
     assert len(body) == 7
+    assert [line.split(" & ")[2] for line in body] == EXPECTED_CLASS
+    status, out, _ = run(capsys, "columns", aln, *HAND, "--table", "tex", "--tex-columns", "all")
+    assert status == 0 and r"H (bits) & H norm." in out and r"unknown\_fraction" in out
+    body = [line for line in out.splitlines() if line.endswith(r"\\") and line.split(" & ")[0].strip().isdigit()]
     assert [line.split(" & ")[COLUMN_ORDER.index("class")] for line in body] == EXPECTED_CLASS
 
 
@@ -499,7 +504,8 @@ def test_internal_error_with_debug_shows_traceback(capsys, aln, monkeypatch):
 def test_interrupt_exit_130(capsys, aln, monkeypatch):
     monkeypatch.setattr("globcons.analysis.columns.score_columns", _raise(KeyboardInterrupt()))
     status, out, err = run(capsys, "columns", aln)
-    assert (status, out, err) == (130, "", "\nglobcons: interrupted\n")  # click ends the interrupted line first
+    # click ends the interrupted line first
+    assert (status, out, err) == (130, "", "\nglobcons: interrupted; no partial output was left\n")
 
 
 def test_out_of_memory_exit_2(capsys, aln, monkeypatch):
@@ -510,12 +516,12 @@ def test_out_of_memory_exit_2(capsys, aln, monkeypatch):
 
 def test_process_reader_gone_stops_quietly(tmp_path):
     """The reader of standard output goes away (as `| head` does) before the table is written: no traceback,
-    no message, a failure status. (click ends such a run itself with status 1 before main() sees the broken
-    pipe, so main's 141 is not reached from inside a command.)"""
+    no message, the conventional status of a closed pipe, 128 + SIGPIPE = 141 (common practice of shells).
+    (The command turns the broken pipe into OutputClosed so that click does not end the run with 1.)"""
     wide = tmp_path / "wide.fasta"
     wide.write_text(">w1\n" + "ACDEFGHIKLMNPQRSTVWY" * 50 + "\n>w2\n" + "YWVTSRQPNMLKIHGFEDCA" * 50 + "\n")
     process = subprocess.Popen([sys.executable, "-m", "globcons", "columns", wide, "--no-frame", "-q"],
                                stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=_ENV)
     process.stdout.close()  # long before the child has imported its libraries, let alone scored anything
-    assert process.wait(timeout=120) == 1
+    assert process.wait(timeout=120) == 141
     assert process.stderr.read() == b""

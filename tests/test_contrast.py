@@ -299,8 +299,8 @@ def test_cli_contrast_writes_table_and_figure(tmp_path, capsys):
     err = capsys.readouterr().err
     assert status == 0, err
     table = pd.read_csv(out, sep="\t")
-    assert list(table.columns[:9]) == ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue",
-                                       "pvalue_permutation", "gap_fraction"]
+    assert list(table.columns[:11]) == ["column", "frame_label", "sites", "class", "contrast", "mi", "pvalue",
+                                        "qvalue", "pvalue_permutation", "qvalue_permutation", "gap_fraction"]
     assert list(table["class"][:12]) == ["group-specific"] * 6 + ["shared"] * 6
     assert (tmp_path / "contrast.tsv.meta.json").is_file()
     assert figure.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
@@ -348,3 +348,49 @@ def test_report_gains_a_contrast_section(tmp_path, capsys):
     table = pd.read_csv(out / "contrast.tsv", sep="\t")
     assert list(table["class"][:12]) == ["group-specific"] * 6 + ["shared"] * 6
     assert main(["report", alignment, "-o", str(out), "--groups", str(escaped), "--group-by", "(x)"]) == 2
+
+
+# Benjamini-Hochberg q-values. Reference implementation: scipy.stats.false_discovery_control (method "bh").
+# Worked example: the 15 p-values of Benjamini & Hochberg 1995 (J R Stat Soc B 57:289, section 4.1, from
+# memory); at a false discovery rate of 0.05 the step-up procedure rejects the four smallest.
+BH_1995_PVALUES = [0.0001, 0.0004, 0.0019, 0.0095, 0.0201, 0.0278, 0.0298, 0.0344, 0.0459, 0.3240, 0.4262,
+                   0.5719, 0.6528, 0.7590, 1.0000]
+
+
+def test_bh_qvalues_of_the_1995_example():
+    from scipy.stats import false_discovery_control
+
+    from globcons.core.multiple_testing import bh_qvalues
+
+    q = bh_qvalues(np.array(BH_1995_PVALUES))
+    assert int((q <= 0.05).sum()) == 4
+    np.testing.assert_allclose(q, false_discovery_control(BH_1995_PVALUES, method="bh"), rtol=1e-12)
+    assert q[3] == pytest.approx(0.0095 * 15 / 4)  # worked by hand: p_(4) m / 4 = 0.035625
+
+
+def test_bh_qvalues_against_scipy_on_random_pvalues_with_ties_and_gaps():
+    from scipy.stats import false_discovery_control
+
+    from globcons.core.multiple_testing import bh_qvalues
+
+    rng = np.random.default_rng(7)
+    p = np.round(rng.random(500) ** 3, 3)  # many small values and ties
+    p[rng.choice(500, 40, replace=False)] = np.nan
+    tested = rng.random(500) < 0.9
+    q = bh_qvalues(p, tested)
+    family = np.isfinite(p) & tested
+    np.testing.assert_allclose(q[family], false_discovery_control(p[family], method="bh"), rtol=1e-12)
+    assert np.isnan(q[np.isnan(p)]).all() and (q[np.isfinite(p) & ~tested] == 1.0).all()
+
+
+def test_contrast_qvalues_are_bh_over_the_tested_columns(tmp_path):
+    from scipy.stats import false_discovery_control
+
+    table = contrast_columns(*planted(), permutations=99, seed=3, frame=False)
+    tested = table["pvalue"].notna() & ~table["class"].eq("shared")  # shared columns: one residue, df 0
+    assert table.attrs["tested_columns"] == int(tested.sum()) == 14
+    for p_name, q_name in (("pvalue", "qvalue"), ("pvalue_permutation", "qvalue_permutation")):
+        np.testing.assert_allclose(table.loc[tested, q_name],
+                                   false_discovery_control(table.loc[tested, p_name], method="bh"), rtol=1e-12)
+        assert (table.loc[~tested, q_name] == 1.0).all()
+    assert (table["qvalue"] >= table["pvalue"]).all()

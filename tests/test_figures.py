@@ -285,7 +285,10 @@ def test_profile_plots_conservation_along_the_labelled_columns(tmp_path):
     assert ax.get_ylabel() == "conservation:\n(1 - entropy / log2 20) x (1 - gap fraction)"
     assert fig.axes[1].get_title(loc="left") == "conservation"  # the title names the score plotted
     legend = [t.get_text() for t in ax.get_legend().get_texts()]
-    assert legend == ["invariant (2)", "conservative (1)", "variable (2)", "functional site"]
+    # The legend counts every column of the table, as the summary line does (one source: the class counts),
+    # and says which column the x axis leaves out.
+    assert legend == ["invariant (2)", "conservative (1)", "variable (2)", "gap-rich (1)", "functional site"]
+    assert [t.get_text() for t in ax.texts] == ["1 column without a frame label (insertions) not drawn"]
     assert png_shape(tmp_path / "p.png") == expected_pixels(fig)
 
 

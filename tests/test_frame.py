@@ -308,3 +308,14 @@ def test_user_site_table_other_problems(tmp_path):
     with pytest.raises(InputError) as info:
         frame.sites(path=tmp_path / "absent.tsv")
     assert "absent.tsv" in str(info.value)
+
+
+def test_the_stored_alpha_ce_placement_is_what_the_pairwise_alignment_gives():
+    # Stored as package data so that no run loads Bio.Align; recomputed here with Biopython's aligner.
+    from globcons.align.frame_columns import alpha_ce_alignment, stored_alpha_ce_placement
+    from globcons.frame.reference import reference_chains
+
+    chains = {chain.kind: chain for chain in reference_chains()}
+    assert stored_alpha_ce_placement() == alpha_ce_alignment(chains["alpha"], chains["beta"])
+    # alpha Phe43 (CE1) is the residue myoglobin and beta call CD1 (reference README, from memory)
+    assert stored_alpha_ce_placement()["CE1"] == "CD1"

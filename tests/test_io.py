@@ -292,9 +292,10 @@ end;
 
 
 def test_phylip_header_without_rows_is_an_input_error(tmp_path):
-    # Biopython reads " 2 4" alone as two empty rows; that must be our error, not a crash
+    # Biopython reads " 2 4" alone as two empty rows; that must be our error, not a crash (the header's
+    # counts are checked against the file's size first)
     err = _error(write(tmp_path, "head_only.phy", b" 2 4\n"))
-    assert "empty" in err.message or "no sequences" in err.message
+    assert err.message == "PHYLIP header says 2 sequences of 4 columns, more than a file of 5 bytes can hold"
 
 
 def test_phylip_fewer_rows_than_declared(tmp_path):
@@ -566,3 +567,64 @@ def test_read_sequences_empty_header(tmp_path):
     with pytest.raises(InputError) as info:
         list(read_sequences(path))
     assert info.value.line == 3
+
+
+def _careful_rows(data: bytes, name: str = "x.fasta"):
+    from globcons.io import fasta
+
+    original = fasta.clean_fasta_rows
+    fasta.clean_fasta_rows = lambda *args, **kwargs: None
+    try:
+        return fasta.parse_fasta_rows(data, name, False, False)
+    finally:
+        fasta.clean_fasta_rows = original
+
+
+@pytest.mark.parametrize("text", [
+    ">a one\nMKV-LA\n>b\nmkv.la\n>c  two  words \nMKXBZJ\n",
+    ">a\nMK*VLA\n>b\nMKVLAW\n",  # an internal stop: kept as STOP for finish_alignment, as the careful path does
+    ">é ü\nACDEFG\n>b\tdesc\nHIKLMN\n",
+])
+def test_clean_fasta_fast_path_gives_what_the_careful_path_gives(text):
+    from globcons.io.fasta import clean_fasta_rows
+
+    data = text.encode("utf-8")
+    fast = clean_fasta_rows(data, "x.fasta")
+    careful = _careful_rows(data)
+    assert fast is not None
+    assert fast[0] == careful[0] and fast[1] == careful[1] and fast[3] == careful[3]
+    np.testing.assert_array_equal(fast[2], careful[2])
+    consumed = bytearray(data)  # codes written over the buffer's own bytes give the same matrix
+    np.testing.assert_array_equal(clean_fasta_rows(consumed, "x.fasta", consume=True)[2], careful[2])
+
+
+@pytest.mark.parametrize("text", [
+    ">a\nMKV\nLA\n>b\nMKVLA\n",  # wrapped lines
+    ">a\r\nMKVLA\r\n>b\r\nMKVLA\r\n",  # CRLF
+    ">a\nMKVLA*\n>b\nMKVLA*\n",  # final stops are dropped by the careful path
+    ">a\nMKVLA \n>b\nMKVLA \n",  # trailing blanks
+    "> a\nMKVLA\n>b\nMKVLA\n",  # a blank before the id
+    ">a\nMKVLA\n>b\nMKVL\n",  # unequal rows: the careful path words the error
+    ">a\nMKVLA\n>b\nMKVLA",  # no final newline
+    "\n>a\nMKVLA\n",  # a leading blank line
+])
+def test_anything_unclean_leaves_the_fast_path_untouched(text):
+    from globcons.io.fasta import clean_fasta_rows
+
+    data = bytearray(text.encode())
+    assert clean_fasta_rows(data, "x.fasta", consume=True) is None
+    assert data == bytearray(text.encode())  # nothing written
+
+
+def test_a_bad_letter_in_a_clean_layout_is_the_careful_paths_error():
+    from globcons.io.fasta import clean_fasta_rows
+
+    data = b">a\nMKVLA\n>b\nMK!LA\n>c\nMKVLA\n"
+    with pytest.raises(InputError) as fast:
+        clean_fasta_rows(bytearray(data), "x.fasta", consume=True)
+    with pytest.raises(InputError) as careful:
+        _careful_rows(data)
+    assert str(fast.value) == str(careful.value) and fast.value.line == careful.value.line == 4
+    data = b">a\nMKVLA\n>b\nMK LA\n"
+    with pytest.raises(InputError, match="blank"):
+        clean_fasta_rows(data, "x.fasta")

@@ -5,6 +5,9 @@ whale myoglobin); the positions (beta 6 = A3 the sickle-cell position, beta His9
 proximal His, myoglobin His64 = E7 the distal His) are nomenclature from memory, widely cited.
 """
 
+import csv
+import io
+
 import numpy as np
 import pytest
 
@@ -14,7 +17,7 @@ from globcons.core.vocabulary import CAUTION
 from globcons.errors import OptionError
 from globcons.frame.reference import reference_chain
 from globcons.mutations.judge import check, rank_sites
-from globcons.mutations.target import prepare_target
+from globcons.mutations.target import HGVS_UNKNOWN, prepare_target
 from helpers import alignment_of, planted_family
 
 BETA = reference_chain("human_hemoglobin_beta")
@@ -126,7 +129,7 @@ def test_cli_prints_the_caution_even_when_quiet(tmp_path, capsys):
     assert warning.startswith("globcons: warning: family built-in reference chains: 3.0 effective sequences")
     assert caution.startswith("Caution:") and CAUTION in captured.err
     lines = captured.out.splitlines()
-    assert lines[0].split("\t")[:3] == ["mutation", "position", "mature_position"] and len(lines) == 3
+    assert lines[0].split("\t")[:4] == ["mutation", "position", "wild_type", "new_residue"] and len(lines) == 3
     out = tmp_path / "plan.md"
     assert main(["plan", str(fasta), "--top", "5", "-o", str(out), "--quiet"]) == 0
     assert out.read_text().rstrip().splitlines()[-1].startswith("Caution:")
@@ -168,3 +171,41 @@ def test_trp_to_arg_in_an_aromatic_core_column_is_guarded_for_the_hydrophobic_co
     assert "R is polar (-1.01)" in row["reasons"]
     # A hydrophobic replacement of the same Trp keeps the core: no core reason.
     assert "hydrophobic core" not in check(("beta", beta), ["W15F"], family=family).iloc[0]["reasons"]
+
+
+def test_cli_check_shows_the_wild_type_residue(tmp_path, capsys):
+    # globcons check beta.fa --mutations E7V,H93Y: human beta with its Met has Glu at 7 and His at 93
+    # (the sickle-cell Glu6 and the proximal His92 in traditional numbering; UniProt P68871, from memory).
+    fasta = tmp_path / "beta.fa"
+    fasta.write_text(f">beta\n{BETA.full_sequence}\n")
+    assert main(["check", str(fasta), "--mutations", "E7V,H93Y", "--quiet"]) == 0
+    rows = list(csv.DictReader(io.StringIO(capsys.readouterr().out), delimiter="\t"))
+    assert [(r["mutation"], r["wild_type"], r["new_residue"], r["hgvs"], r["hgvs_note"]) for r in rows] == [
+        ("E7V", "E", "V", "p.Glu7Val", ""), ("H93Y", "H", "Y", "p.His93Tyr", "")]
+
+
+def test_cli_check_says_why_hgvs_is_blank(tmp_path, capsys):
+    # globcons check mature.fa --mutations E6V: a target without its Met, counted as given, has no known
+    # HGVS number; the cell stays blank, hgvs_note says why, and stderr says it once (exit 0).
+    fasta = tmp_path / "mature.fa"
+    fasta.write_text(f">beta_mature\n{BETA.mature_sequence}\n")
+    assert main(["check", str(fasta), "--mutations", "E6V,H92Y"]) == 0
+    captured = capsys.readouterr()
+    rows = list(csv.DictReader(io.StringIO(captured.out), delimiter="\t"))
+    assert [r["hgvs"] for r in rows] == ["", ""]
+    assert all(r["hgvs_note"] == HGVS_UNKNOWN for r in rows)
+    assert captured.err.count(f"globcons: warning: beta_mature: {HGVS_UNKNOWN}") == 1
+    # With --numbering mature the Met is known to be removed: HGVS names, no note, no warning.
+    assert main(["check", str(fasta), "--numbering", "mature", "--mutations", "E6V"]) == 0
+    captured = capsys.readouterr()
+    row = next(csv.DictReader(io.StringIO(captured.out), delimiter="\t"))
+    assert (row["wild_type"], row["hgvs"], row["hgvs_note"]) == ("E", "p.Glu7Val", "")
+    assert "HGVS numbering unknown" not in captured.err
+
+
+def test_cli_plan_says_why_hgvs_is_blank(tmp_path, capsys):
+    fasta = tmp_path / "mature.fa"
+    fasta.write_text(f">beta_mature\n{BETA.mature_sequence}\n")
+    assert main(["plan", str(fasta), "--top", "3", "--quiet"]) == 0
+    rows = list(csv.DictReader(io.StringIO(capsys.readouterr().out), delimiter="\t"))
+    assert len(rows) == 3 and all(r["hgvs"] == "" and r["hgvs_note"] == HGVS_UNKNOWN for r in rows)

@@ -146,3 +146,20 @@ def test_places_of_100_and_more_get_a_hundreds_line_only_when_needed():
     long = encode_labels(["H109", "", "B7", "GH120"])
     assert long == {"frame_segment": "H.Bg", "frame_hundreds": "1..1", "frame_tens": "0..2", "frame_units": "9.70"}
     assert decode_labels(long) == ["H109", "", "B7", "GH120"]
+
+
+def test_the_stored_calibration_is_what_the_built_in_profile_gives_now():
+    # The Gumbel scale of the built-in profile is package data so that no run recomputes it; if the
+    # profile changes, its digest changes and this test says how to regenerate the file.
+    import json
+    from importlib import resources
+
+    from globcons.align.scoring_profile import frame_profile
+    from globcons.align.significance import calibrated_scale, gumbel_scale, profile_digest
+
+    stored = json.loads((resources.files("globcons") / "data" / "frame" / "calibration.json").read_text())
+    entry = stored["profiles"][0]
+    profile = frame_profile()
+    assert entry["profile_digest"] == profile_digest(profile), "regenerate data/frame/calibration.json (see 'about')"
+    assert entry["gumbel_scale"] == calibrated_scale(profile)  # deterministic: shuffles are seeded by the chains
+    assert gumbel_scale(profile) == entry["gumbel_scale"]

@@ -72,10 +72,14 @@ def test_user_ids_are_escaped(tmp_path):
 
 
 def test_report_command_and_it_leaves_other_files_alone(tmp_path, capsys):
+    """The report replaces its folder as a whole, so a folder of other files is refused and left as it was."""
     keep = tmp_path / "notes.txt"
     keep.write_text("mine")
-    assert main(["report", str(demo_alignment_path()), "-o", str(tmp_path), "--no-logos", "--quiet"]) == 0
-    assert keep.read_text() == "mine" and (tmp_path / "report.html").is_file()
+    assert main(["report", str(demo_alignment_path()), "-o", str(tmp_path), "--no-logos", "--quiet"]) == 2
+    assert "holds other files and no report.html" in capsys.readouterr().err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["notes.txt"] and keep.read_text() == "mine"
+    assert main(["report", str(demo_alignment_path()), "-o", str(tmp_path / "rep"), "--no-logos", "--quiet"]) == 0
+    assert keep.read_text() == "mine" and (tmp_path / "rep" / "report.html").is_file()
 
 
 def _chromium():

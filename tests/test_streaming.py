@@ -243,6 +243,14 @@ def test_cluster_weights_stream_and_give_the_in_memory_table(tmp_path):
         in_memory = score_columns(read_alignment(path), options)
         assert format_table(streamed, "tsv") == format_table(in_memory, "tsv")
     assert "sampled rows" in streamed.attrs["effective_sequences_method"]
+    # The default (Henikoff frequencies) estimates the effective number from sampled rows compared with
+    # every row: the same sample and the same integer counts whichever way the file is read.
+    options = ScoreOptions(frame=False, neff_exact_rows=20, neff_sample=16)
+    streamed = stream_columns(path, options, chunk_rows=7)
+    in_memory = score_columns(read_alignment(path), options)
+    assert format_table(streamed, "tsv") == format_table(in_memory, "tsv")
+    assert streamed.attrs["effective_sequences"] == in_memory.attrs["effective_sequences"]
+    assert "16 sampled rows each compared with all 50" in streamed.attrs["effective_sequences_method"]
 
 
 def test_keep_inserts_and_stockholm_refuse_to_stream(tmp_path):
@@ -281,3 +289,22 @@ def test_record_chunks_cut_at_whole_records():
     chunks = list(record_chunks(io.BytesIO(data), 2))
     assert chunks == [b"\n>a\nMK\nVL\n>b x\nMKVL\n", b">c\nMK\nVL\n>d\nMKVL"]
     assert b"".join(record_chunks(io.BytesIO(data), 1)) == data
+
+
+def test_the_second_pass_reads_the_spooled_codes_not_the_file(tmp_path, monkeypatch):
+    # Pass 2 reads pass 1's codes back from a temporary file: the file is parsed once.
+    from globcons.io import chunks
+
+    path = _family(tmp_path, n_rows=50)
+    calls = []
+    original = chunks.ChunkedFasta.matrices
+
+    def counting(self, first_pass):
+        calls.append(first_pass)
+        return original(self, first_pass)
+
+    monkeypatch.setattr(chunks.ChunkedFasta, "matrices", counting)
+    streamed = stream_columns(path, ScoreOptions(frame=False), chunk_rows=7)
+    assert calls == [True]
+    assert format_table(streamed, "tsv") == format_table(score_columns(read_alignment(path), ScoreOptions(frame=False)),
+                                                         "tsv")

@@ -4,15 +4,17 @@ import numpy as np
 import pytest
 
 from globcons import score_columns
-from globcons.core.weights import (
+from globcons.core.counts import column_counts
+from globcons.core.neighbours import (
     cluster_weights,
-    compute_weights,
-    distinct_rows,
+    estimate_neighbours,
+    estimated_column_counts,
     exact_neighbours,
-    henikoff_weights,
     neighbour_counts,
+    query_neighbours,
     sample_rows,
 )
+from globcons.core.weights import compute_weights, distinct_rows, henikoff_weights
 from globcons.errors import OptionError
 from helpers import alignment_of
 
@@ -152,3 +154,62 @@ def test_none_weights_are_one():
 def test_unknown_scheme_is_an_option_error():
     with pytest.raises(OptionError, match="henikoff, none, cluster"):
         compute_weights(np.zeros((1, 1), dtype=np.uint8), "equal")
+
+
+def _clustered_rows(rng, n_clusters, copies, singles, width=80):
+    letters = np.array(list("ACDEFGHIKLMNPQRSTVWY"))
+    rows = []
+    for _ in range(n_clusters):
+        parent = rng.choice(letters, width)
+        for _ in range(copies):
+            row = parent.copy()
+            row[rng.integers(width)] = rng.choice(letters)  # one substitution: 98-100% identical
+            rows.append("".join(row))
+    rows += ["".join(rng.choice(letters, width)) for _ in range(singles)]
+    return rows
+
+
+def test_sampled_rows_compared_with_every_row_get_their_exact_counts():
+    # query_neighbours against all rows must equal the all-pairs count for those rows, cut into any blocks.
+    rng = np.random.default_rng(11)
+    codes = alignment_of(*_clustered_rows(rng, 12, 15, 40)).codes
+    exact = exact_neighbours(codes)
+    queries = np.array([0, 3, 17, 100, 190, 219])
+    whole = query_neighbours(codes, codes[queries])
+    pieces = sum(query_neighbours(codes[start:start + 37], codes[queries]) for start in range(0, codes.shape[0], 37))
+    np.testing.assert_array_equal(whole, exact[queries])
+    np.testing.assert_array_equal(pieces, exact[queries])
+
+
+def test_the_estimated_effective_number_is_unbiased_and_says_its_error():
+    # 30 clusters of 20 near-copies plus 300 rows alone: 330 effective sequences by hand. The estimate
+    # (128 sampled rows compared with all 900) is a sample mean of 1/m times N, so it lies within a few
+    # standard errors of the truth (simple random sampling; Cochran 1977, ch. 2).
+    rng = np.random.default_rng(12)
+    codes = alignment_of(*_clustered_rows(rng, 30, 20, 300)).codes
+    exact = neighbour_counts(codes)
+    assert exact.n_eff == pytest.approx(330.0)
+    estimated = estimate_neighbours(codes, exact_max_rows=100, query_rows=128)
+    assert estimated.method == "estimated" and not estimated.per_row and estimated.values.size == 128
+    assert 0 < estimated.standard_error < 0.1 * exact.n_eff
+    assert abs(estimated.n_eff - exact.n_eff) < 3 * estimated.standard_error
+    assert "128 sampled rows each compared with all 900" in estimated.describe()
+    with pytest.raises(ValueError, match="sample"):
+        _ = estimated.weights
+    # Over many different samples the mean estimate approaches the truth (unbiased, unlike per-row
+    # scaling from a sample, which undercounts small clusters).
+    estimates = []
+    for shift in range(40):
+        order = np.roll(np.arange(codes.shape[0]), 23 * shift)
+        estimates.append(estimate_neighbours(codes[order], exact_max_rows=100, query_rows=64).n_eff)
+    assert np.mean(estimates) == pytest.approx(330.0, rel=0.03)
+
+
+def test_estimated_column_counts_are_the_plain_counts_when_every_row_is_alone():
+    rng = np.random.default_rng(13)
+    codes = alignment_of(*_clustered_rows(rng, 0, 0, 200)).codes
+    estimated = estimate_neighbours(codes, exact_max_rows=50, query_rows=32)
+    assert estimated.n_eff == pytest.approx(200.0) and estimated.standard_error == pytest.approx(0.0)
+    chosen = sample_rows(codes.shape[0], 32)
+    plain = column_counts(codes).reshape(codes.shape[1], -1)
+    np.testing.assert_allclose(estimated_column_counts(plain, codes[chosen], estimated), plain)

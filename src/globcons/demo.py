@@ -18,6 +18,7 @@ import pandas as pd
 from globcons.analysis.columns import score_columns, summarise
 from globcons.errors import OutputError
 from globcons.io.alignments import read_alignment
+from globcons.io.atomic import check_folder_output, make_folder
 from globcons.io.records import read_sequences
 from globcons.io.tables import write_table
 
@@ -52,7 +53,8 @@ class DemoResult:
 def run_demo(out_dir: str | os.PathLike = "globcons-demo", full: bool = True) -> DemoResult:
     """Run the job on the demo data and write its outputs into ``out_dir``.
 
-    The folder is created if missing; files already in it that the demo does not write are left alone.
+    The folder is created if missing; files already in it that the demo does not write are left alone,
+    except its ``report`` folder, which is replaced as a whole.
 
     Parameters
     ----------
@@ -63,7 +65,9 @@ def run_demo(out_dir: str | os.PathLike = "globcons-demo", full: bool = True) ->
     folder = Path(out_dir)
     if folder.exists() and not folder.is_dir():
         raise OutputError("exists and is not a folder", source=str(folder))
-    folder.mkdir(parents=True, exist_ok=True)
+    make_folder(folder)
+    if full:
+        check_folder_output(folder / "report")  # refuse before the work, not after it
     alignment = read_alignment(demo_alignment_path())
     table = score_columns(alignment)
     files = write_table(table, folder / "columns.tsv", metadata=table.attrs)

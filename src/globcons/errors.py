@@ -6,7 +6,7 @@ stderr and exit status 2. Anything else that escapes is a bug (exit status 1).
 
 from __future__ import annotations
 
-__all__ = ["GlobconsError", "InputError", "OptionError", "OutputError", "InputWarning"]
+__all__ = ["GlobconsError", "InputError", "OptionError", "OutputError", "RunError", "InputWarning"]
 
 
 class GlobconsError(Exception):
@@ -45,6 +45,10 @@ class OptionError(GlobconsError):
 
 class OutputError(GlobconsError):
     """An output cannot be written where it was asked for."""
+
+
+class RunError(GlobconsError):
+    """The run could not finish for a reason outside the inputs (a worker process was killed)."""
 
 
 class InputWarning(UserWarning):

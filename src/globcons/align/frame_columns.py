@@ -16,16 +16,19 @@ The result is computed once from the package data and cached.
 from __future__ import annotations
 
 import functools
+import json
 from dataclasses import dataclass
+from importlib import resources
 
 import numpy as np
 
 from globcons.core.alphabet import GAP, encode
 from globcons.core.labels import HELICES, is_helix, label_key, segment_of
-from globcons.core.matrices import DEFAULT_MATRIX, load_matrix
+from globcons.core.matrices import DEFAULT_MATRIX
 from globcons.frame.reference import ReferenceChain, reference_chains
 
-__all__ = ["FrameColumn", "ReferenceAlignment", "reference_alignment"]
+__all__ = ["FrameColumn", "ReferenceAlignment", "reference_alignment", "alpha_ce_alignment",
+           "stored_alpha_ce_placement"]
 
 # Alpha's CE stretch maps onto these segments of the others.
 _CE_TARGET_SEGMENTS = ("CD", "D")
@@ -123,15 +126,17 @@ class ReferenceAlignment:
         return {column.label: column.index for column in self.columns}
 
 
-def _alpha_ce_placement(alpha: ReferenceChain, beta: ReferenceChain) -> dict[str, str]:
-    """Alpha CE label -> the CD/D label of the beta residue it aligns to (from a pairwise alignment)."""
-    from Bio.Align import PairwiseAligner
+def alpha_ce_alignment(alpha: ReferenceChain, beta: ReferenceChain) -> dict[str, str]:
+    """Alpha CE label -> the CD/D label of the beta residue it aligns to, from a pairwise alignment (BLOSUM62,
+    Biopython's PairwiseAligner). Stored as package data (``data/frame/alpha_ce_placement.json``) so that no run
+    pays for Bio.Align; a test recomputes it."""
+    from Bio.Align import PairwiseAligner, substitution_matrices
 
     ce = [i for i, label in enumerate(alpha.labels) if segment_of(label) == "CE"]
     target = [i for i, label in enumerate(beta.labels) if segment_of(label) in _CE_TARGET_SEGMENTS]
     if not ce:
         return {}
-    aligner = PairwiseAligner(mode="global", substitution_matrix=load_matrix(DEFAULT_MATRIX),
+    aligner = PairwiseAligner(mode="global", substitution_matrix=substitution_matrices.load(DEFAULT_MATRIX),
                               open_gap_score=_CE_ALIGNMENT_GAPS[0], extend_gap_score=_CE_ALIGNMENT_GAPS[1])
     alignment = aligner.align("".join(alpha.mature_sequence[i] for i in ce),
                               "".join(beta.mature_sequence[i] for i in target))[0]
@@ -142,12 +147,18 @@ def _alpha_ce_placement(alpha: ReferenceChain, beta: ReferenceChain) -> dict[str
     return placement
 
 
+def stored_alpha_ce_placement() -> dict[str, str]:
+    """The stored result of :func:`alpha_ce_alignment` for the built-in chains."""
+    text = (resources.files("globcons") / "data" / "frame" / "alpha_ce_placement.json").read_text(encoding="utf-8")
+    return dict(json.loads(text)["placement"])
+
+
 @functools.cache
 def reference_alignment() -> ReferenceAlignment:
     """The reference chains aligned on the frame's columns (see the module notes)."""
     chains = reference_chains()
     by_kind = {chain.kind: chain for chain in chains}
-    ce_placement = _alpha_ce_placement(by_kind["alpha"], by_kind["beta"]) if "alpha" in by_kind else {}
+    ce_placement = stored_alpha_ce_placement() if "alpha" in by_kind else {}
     placed: list[dict[str, int]] = []  # per chain: canonical label -> mature position
     for chain in chains:
         mapping: dict[str, int] = {}

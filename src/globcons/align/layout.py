@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -19,7 +19,11 @@ from globcons.core.labels import HELICES
 if TYPE_CHECKING:
     import pandas as pd
 
-__all__ = ["FrameAlignment", "align_to_frame"]
+__all__ = ["FrameAlignment", "align_to_frame", "PLACE_BATCH"]
+
+#: Sequences placed per batch by :func:`align_to_frame` (the progress it reports moves by batches; the
+#: placements do not depend on the batch: every query is aligned and shuffled on its own).
+PLACE_BATCH = 256
 
 
 @dataclass(frozen=True, eq=False)
@@ -74,7 +78,8 @@ class FrameAlignment:
 
 
 def align_to_frame(records: Iterable[tuple[str, str]], keep_inserts: bool = False,
-                   shuffles: int = DEFAULT_SHUFFLES, profile: Profile | None = None) -> FrameAlignment:
+                   shuffles: int = DEFAULT_SHUFFLES, profile: Profile | None = None,
+                   progress: Callable[[int], None] | None = None) -> FrameAlignment:
     """Place sequences on the frame and lay them out as an alignment.
 
     Parameters
@@ -86,6 +91,9 @@ def align_to_frame(records: Iterable[tuple[str, str]], keep_inserts: bool = Fals
         padded with '.' (A2M convention), instead of dropping them.
     shuffles, profile
         As for :func:`place_many`.
+    progress
+        Called with the number of sequences placed after each batch of :data:`PLACE_BATCH` (for a progress
+        display; the library prints nothing).
 
     Examples
     --------
@@ -95,7 +103,13 @@ def align_to_frame(records: Iterable[tuple[str, str]], keep_inserts: bool = Fals
     >>> len(frame.labels), frame.labels[frame.labels.index("F8")]
     (154, 'F8')
     """
-    placed = place_many(records, profile=profile, shuffles=shuffles)
+    records = list(records)
+    placed: list[PlacedSequence] = []
+    for start in range(0, len(records), PLACE_BATCH):
+        batch = records[start:start + PLACE_BATCH]
+        placed += place_many(batch, profile=profile, shuffles=shuffles)
+        if progress is not None:
+            progress(len(batch))
     reference = reference_alignment()
     canonical = [column.label for column in reference.columns]
     n_frame = len(canonical)

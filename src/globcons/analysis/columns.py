@@ -31,10 +31,10 @@ from globcons.core.scores import (
     unknown_fraction,
 )
 from globcons.errors import OptionError
-from globcons.frame.functional_sites import Site, column_sites, sites
+from globcons.frame.functional_sites import Site, check_user_sites, column_sites, sites
 
 __all__ = ["COLUMN_ORDER", "SCORE_COLUMNS", "SHOWN_SCORES", "score_columns", "table_from_summary", "read_user_sites",
-           "summarise", "is_thin"]
+           "summarise", "is_thin", "class_counts"]
 
 
 #: Order of the table's columns (``ref_position`` and ``ref_residue`` follow ``column`` with a reference).
@@ -109,6 +109,22 @@ def _mapping(summary: ColumnSummary, options: ScoreOptions) -> ColumnMapping:
     return map_columns(summary.rows, anchor=options.reference)
 
 
+def _check_fit(summary: ColumnSummary, options: ScoreOptions) -> None:
+    """Refuse options the alignment cannot honour: a smoothing window wider than it, a --reference row
+    that is missing or holds only gaps."""
+    if options.window and options.window >= summary.n_columns:
+        raise OptionError(f"--window {options.window} is wider than the alignment ({summary.n_columns} columns); "
+                          f"give at most {max(summary.n_columns - 1, 0)}")
+    reference = options.reference
+    if reference is None:
+        return
+    rows = summary.rows
+    if reference not in rows.ids:
+        raise OptionError(f"--reference {reference!r} is not an id of {rows.source}")
+    if not (rows.ungapped_positions(rows.ids.index(reference)) > 0).any():
+        raise OptionError(f"--reference {reference!r} holds only gaps; choose a row with residues")
+
+
 def _reference_columns(table: pd.DataFrame, summary: ColumnSummary, reference: str) -> None:
     """Insert ``ref_position`` and ``ref_residue``: the residue numbering of the reference row."""
     rows = summary.rows
@@ -140,7 +156,9 @@ def table_from_summary(summary: ColumnSummary, options: ScoreOptions,
         user_sites = read_user_sites(options)
     counts = summary.counts
     stats = column_statistics(counts, summary.neff_counts, options.rules)
+    _check_fit(summary, options)
     mapping = _mapping(summary, options)
+    check_user_sites(user_sites, mapping.labels, options.sites_path)
     table = pd.DataFrame({
         "column": np.arange(1, summary.n_columns + 1),
         "frame_label": list(mapping.labels),
@@ -181,10 +199,12 @@ def _metadata(summary: ColumnSummary, options: ScoreOptions, classes: np.ndarray
         "columns": summary.n_columns,
         "effective_sequences": round(summary.n_eff, 6),
         "effective_sequences_method": summary.neighbours.describe(),
+        "effective_sequences_error": _finite_or_none(summary.neighbours.standard_error),
         "thin_family": bool(summary.n_eff < options.rules.min_neff),
         "weights": options.weights,
         "identity": options.identity,
         "neff_exact_rows": options.neff_exact_rows,
+        "neff_sample": options.neff_sample,
         "window": options.window,
         "reference": options.reference,
         "property_classes": PROPERTY_CLASSES,
@@ -196,12 +216,32 @@ def _metadata(summary: ColumnSummary, options: ScoreOptions, classes: np.ndarray
     }
 
 
+def _finite_or_none(value: float) -> float | None:
+    return round(value, 6) if np.isfinite(value) else None
+
+
+def class_counts(table: pd.DataFrame) -> dict[str, int]:
+    """Columns of each class in the whole table: the one count the summary line and the figures show.
+
+    The table's metadata holds the counts of every column scored (``attrs["class_counts"]``), which stay
+    those of the whole alignment when rows are later left out (a table kept to some classes, or a figure
+    drawing only the columns with frame labels); a table without that metadata is counted as it is.
+    """
+    counts = table.attrs.get("class_counts")
+    if counts is None:
+        classes = table["class"].astype(str)
+        counts = {name: int((classes == name).sum()) for name in CLASSES}
+    return {name: int(counts.get(name, 0)) for name in CLASSES}
+
+
 def summarise(table: pd.DataFrame) -> str:
     """One line: sequences, effective sequences, columns and the count of each class."""
     meta = table.attrs
-    counts = meta["class_counts"]
+    counts = class_counts(table)
     parts = ", ".join(f"{counts[name]} {name}" for name in CLASSES)
-    line = (f"{meta['sequences']} sequences ({meta['effective_sequences']:.1f} effective at "
+    error = meta.get("effective_sequences_error")
+    spread = f" ± {error:.1f}" if error else ""
+    line = (f"{meta['sequences']} sequences ({meta['effective_sequences']:.1f}{spread} effective at "
             f"{meta['identity']:.0%} identity; {meta['weights']} weights for the frequencies), {meta['columns']} "
             f"columns: {parts}")
     frame = meta.get("frame")

@@ -39,6 +39,10 @@ group are then left out, and so are groups whose effective size (sum of their ro
 ``pvalue_permutation`` (``permutations=K > 0``)
     ``(1 + #{permutations with G >= G_observed}) / (1 + K)``, the group labels of the kept rows permuted
     ``K`` times with a fixed seed (the row weights move with the rows); valid at any sample size.
+``qvalue`` (and ``qvalue_permutation``)
+    the Benjamini-Hochberg q-value (Benjamini & Hochberg 1995, J R Stat Soc B 57:289) of ``pvalue`` (and of
+    ``pvalue_permutation``) over the tested columns, those whose test has at least one degree of freedom
+    (their number is ``.attrs["tested_columns"]``); a column with nothing to test has p = q = 1.
 ``class``
     ``gap-rich`` when the weighted gap fraction of the grouped rows exceeds ``rules.max_gaps``; else,
     calling a group *conserved* in the column when its own gap fraction is at most ``rules.max_gaps`` and
@@ -65,6 +69,7 @@ from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import N_CODES, N_RESIDUES, decode
 from globcons.core.classes import ClassRules
+from globcons.core.multiple_testing import bh_qvalues
 from globcons.core.scores import consensus, entropy_norm, gap_fraction, shannon_entropy
 from globcons.core.vocabulary import CONTRAST_CLASSES
 from globcons.core.weights import compute_weights
@@ -321,6 +326,8 @@ def permutation_pvalues(codes: np.ndarray, labels: np.ndarray, n_groups: int, we
         (L,) ``(1 + #{G_perm >= G_obs}) / (1 + K)``; NaN where ``observed`` is NaN.
     """
     n_rows, n_columns = codes.shape
+    if seed < 0:
+        raise OptionError(f"--seed must be a whole number from 0, got {seed}")
     rng = np.random.default_rng(seed)
     permuted = rng.permuted(np.broadcast_to(labels.astype(np.int64), (permutations, n_rows)), axis=1)
     cell = (np.arange(n_columns, dtype=np.int64)[None, :] * N_CODES + codes)  # (N, L)
@@ -433,13 +440,15 @@ _SCORE_WORDS = {
     "mi": "mutual information of residue and group, Miller-Madow corrected (bits; Shannon 1948, Miller 1955)",
     "pvalue": "G-test of independence, chi-square with (r-1)(g-1) df",
     "pvalue_permutation": "(1 + #permuted G >= observed G) / (1 + K)",
+    "qvalue": "Benjamini-Hochberg q-value of pvalue over the tested columns (Benjamini & Hochberg 1995)",
+    "qvalue_permutation": "Benjamini-Hochberg q-value of pvalue_permutation over the tested columns",
 }
 
 
 def _contrast_metadata(alignment: Alignment, names: np.ndarray, grouped: GroupedRows, classes: np.ndarray,
                        mapping: ColumnMapping, weights: str, identity: float, min_group_neff: float,
                        conserved_min: float, rules: ClassRules, permutations: int, seed: int,
-                       reference: str | None) -> dict[str, object]:
+                       reference: str | None, tested_columns: int) -> dict[str, object]:
     return {
         "tool": "globcons",
         "version": __version__,
@@ -460,6 +469,7 @@ def _contrast_metadata(alignment: Alignment, names: np.ndarray, grouped: Grouped
         "seed": seed if permutations else None,
         "reference": reference,
         "class_counts": {name: int((classes == name).sum()) for name in CONTRAST_CLASSES},
+        "tested_columns": tested_columns,
         "frame": {"source": mapping.source, "anchor": mapping.anchor, "nearest_reference": mapping.nearest_reference,
                   "note": mapping.note},
         "scores": _SCORE_WORDS,
@@ -502,8 +512,9 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
     -------
     pandas.DataFrame
         One row per column: ``column``, ``frame_label``, ``sites``, ``class``, ``contrast``, ``mi``,
-        ``pvalue`` (``pvalue_permutation``), ``gap_fraction``, ``n_eff``, then ``consensus_<group>`` and
-        ``conservation_<group>`` per group; ``.attrs`` holds the groups, their sizes and the options.
+        ``pvalue``, ``qvalue`` (``pvalue_permutation``, ``qvalue_permutation``), ``gap_fraction``, ``n_eff``,
+        then ``consensus_<group>`` and ``conservation_<group>`` per group; ``.attrs`` holds the groups, their
+        sizes and the options.
 
     Raises
     ------
@@ -525,6 +536,7 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
     gaps = gap_fraction(counts.sum(axis=0))
     group_consensus = consensus(residues)
     classes = _contrast_classes(counts, scores["n_k"], group_consensus, gaps, rules.max_gaps, conserved_min)
+    tested = scores["df"] > 0  # the family of the multiple-testing correction: columns with something to test
     mapping = (map_columns(alignment, anchor=reference) if frame else
                ColumnMapping(("",) * alignment.n_columns, "none", note="frame mapping switched off"))
     data: dict[str, object] = {
@@ -535,10 +547,12 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
         "contrast": scores["contrast"],
         "mi": scores["mi"],
         "pvalue": scores["pvalue"],
+        "qvalue": bh_qvalues(scores["pvalue"], tested),
     }
     if permutations:
         data["pvalue_permutation"] = permutation_pvalues(grouped.codes, grouped.labels, len(grouped.kept),
                                                          grouped.weights, scores["g"], permutations, seed)
+        data["qvalue_permutation"] = bh_qvalues(data["pvalue_permutation"], tested)
     data["gap_fraction"] = gaps
     data["n_eff"] = scores["total"]
     conservation = _conservation(residues)
@@ -548,7 +562,8 @@ def contrast_columns(alignment: Alignment, groups: Sequence[str | None] | Mappin
         data[f"conservation_{g}"] = conservation[k]
     table = pd.DataFrame(data)
     table.attrs.update(_contrast_metadata(alignment, names, grouped, classes, mapping, weights, identity,
-                                          min_group_neff, conserved_min, rules, permutations, seed, reference))
+                                          min_group_neff, conserved_min, rules, permutations, seed, reference,
+                                          int(tested.sum())))
     return table
 
 

@@ -15,16 +15,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from globcons.align.dp import align
 from globcons.align.frame_columns import reference_alignment
-from globcons.align.scoring_profile import Profile, profile_from_counts
+from globcons.align.placement import place
+from globcons.align.scoring_profile import Profile, profile_from_counts, query_codes
 from globcons.core.alignment import Alignment
 from globcons.core.classes import ClassRules, column_statistics
 from globcons.core.counts import column_counts
 from globcons.core.labels import is_helix, segment_of
 from globcons.core.matrices import DEFAULT_MATRIX
+from globcons.core.neighbours import neighbour_counts
 from globcons.core.properties import core_hydrophobicity
 from globcons.core.scores import residue_strings
-from globcons.core.weights import compute_weights, neighbour_counts
+from globcons.core.weights import compute_weights
 
 __all__ = ["Family", "frame_family", "family_from_alignment"]
 
@@ -97,6 +100,31 @@ class Family:
     def thin(self) -> bool:
         """Fewer effective sequences than ``min_neff``: every class rests on little evidence."""
         return bool(self.n_eff < self.min_neff)
+
+    def columns_of(self, sequence: str) -> np.ndarray:
+        """The family column of each residue of a sequence: the one mapping of targets and structure chains.
+
+        A user's family aligns the sequence to its profile (glocal, affine gaps:
+        :func:`globcons.align.dp.align`); the built-in frame places it on the frame
+        (:func:`globcons.align.placement.place`, no shuffles: only the columns are needed).
+
+        Parameters
+        ----------
+        sequence
+            One-letter residues (any case).
+
+        Returns
+        -------
+        numpy.ndarray
+            ``int64``, shape (len(sequence),): 0-based column of each residue, -1 for a residue outside
+            the aligned region or inserted between two columns.
+        """
+        if not sequence:
+            return np.zeros(0, dtype=np.int64)
+        if self.profile is None:
+            return np.asarray(place(sequence, shuffles=0).column_of_residue, dtype=np.int64)
+        placement = align(self.profile.scores, self.profile.gaps, [query_codes(sequence.upper())])[0]
+        return np.asarray(placement.column_of_residue, dtype=np.int64)
 
     def describe(self) -> str:
         """One line: what the family is and how much evidence it holds."""

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from globcons.core.classes import ClassRules
-from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY
+from globcons.core.neighbours import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, NEFF_QUERY_ROWS
 from globcons.errors import OptionError
 
 __all__ = ["ScoreOptions", "options_from_keywords"]
@@ -23,8 +23,10 @@ class ScoreOptions:
         Identity threshold of the clusters behind the effective numbers of sequences (and of ``cluster``
         weights): rows at least this identical count as one.
     neff_exact_rows
-        Up to this many rows the clusters compare every pair of rows; above, every row is compared with a
-        fixed sample (:func:`globcons.core.weights.neighbour_counts`).
+        Up to this many rows the clusters compare every pair of rows; above, the effective number is
+        estimated from a fixed sample of rows (:mod:`globcons.core.neighbours`).
+    neff_sample
+        Rows of that sample, each compared with every row.
     window
         Half-width of the JSD smoothing window (0: none).
     rules
@@ -43,6 +45,7 @@ class ScoreOptions:
     weights: str = "henikoff"
     identity: float = NEFF_IDENTITY
     neff_exact_rows: int = NEFF_EXACT_MAX_ROWS
+    neff_sample: int = NEFF_QUERY_ROWS
     window: int = 0
     rules: ClassRules = ClassRules()
     reference: str | None = None
@@ -57,6 +60,8 @@ class ScoreOptions:
             raise OptionError(f"--identity must be in (0, 1], got {self.identity}")
         if self.neff_exact_rows < 0:
             raise OptionError(f"--neff-exact-rows must not be negative, got {self.neff_exact_rows}")
+        if self.neff_sample < 2:
+            raise OptionError(f"--neff-sample must be 2 or more, got {self.neff_sample}")
 
 
 def options_from_keywords(options: ScoreOptions | None, keywords: dict) -> ScoreOptions:

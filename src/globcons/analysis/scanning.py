@@ -29,7 +29,6 @@ from __future__ import annotations
 
 import os
 from collections.abc import Iterable, Iterator
-from concurrent.futures import ProcessPoolExecutor
 
 import numpy as np
 import pandas as pd
@@ -40,6 +39,7 @@ from globcons.align.placement import PlacedSequence, place_many
 from globcons.align.scoring_profile import frame_profile, query_codes
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.analysis.family import Family, frame_family
+from globcons.analysis.workers import ordered_map
 from globcons.core.alphabet import N_RESIDUES, N_STANDARD, encode, looks_like_nucleotide
 from globcons.core.labels import HELICES
 from globcons.core.matrices import compatible_pairs
@@ -246,17 +246,6 @@ def _scan_batch(records: list[tuple[str, str]], family: Family, want_residues: b
 # --------------------------------------------------------------------------------------------------
 # batches and workers
 
-_WORKER_STATE: dict[str, object] = {}
-
-
-def _init_worker(family: Family, want_residues: bool, shuffles: int) -> None:
-    _WORKER_STATE.update(family=family, want_residues=want_residues, shuffles=shuffles)
-
-
-def _worker(records: list[tuple[str, str]]):
-    return _scan_batch(records, _WORKER_STATE["family"], _WORKER_STATE["want_residues"],  # type: ignore[arg-type]
-                       _WORKER_STATE["shuffles"])  # type: ignore[arg-type]
-
 
 def default_jobs() -> int:
     """Worker processes by default: the cores this process may use."""
@@ -308,15 +297,7 @@ def iter_scan(records: Iterable[tuple[str, str]], family: Family | None = None, 
         for batch in batches:
             yield _scan_batch(batch, family, residues, shuffles)
         return
-    with ProcessPoolExecutor(max_workers=jobs, initializer=_init_worker,
-                             initargs=(family, residues, shuffles)) as pool:
-        pending = []
-        for batch in batches:
-            pending.append(pool.submit(_worker, batch))
-            while len(pending) > 2 * jobs:  # keep memory bounded: a few batches in flight
-                yield pending.pop(0).result()
-        for future in pending:
-            yield future.result()
+    yield from ordered_map(_scan_batch, batches, jobs, state=(family, residues, shuffles))
 
 
 def scan(records: Iterable[tuple[str, str]], family: Family | None = None,

@@ -5,14 +5,16 @@ each chunk holds whole records, parsed by the same byte path as a file in memory
 blocks of :data:`~globcons.core.counts.CHUNK_ROWS` rows that the in-memory path uses, so both paths sum
 the same numbers in the same order and the column tables are identical.
 
-Two passes: pass 1 gathers the unweighted counts (``r`` and ``s`` of every column, for Henikoff weights),
-a 64-bit hash per row (the number of distinct rows), the ids, the anchor candidates, the ``--reference``
-row, and what the cluster weights need (every row's codes up to the exact limit of
-:class:`~globcons.core.weights.ClusterCounts`, else its fixed sample); pass 2 computes each row's
-weights and the weighted counts.
+Two passes: pass 1 parses the file (keeping its codes in a temporary file, one byte per cell; see
+:class:`~globcons.io.chunks.SpooledBlocks`) and gathers the unweighted counts (``r`` and ``s`` of every
+column, for Henikoff weights), a 64-bit hash per row (the number of distinct rows), the ids, the anchor
+candidates, the ``--reference`` row, and what the cluster weights need (every row's codes up to the exact limit of
+:class:`~globcons.core.neighbours.ClusterCounts`, else its fixed sample); pass 2 reads the codes back and
+computes each row's weights and the weighted counts.
 
 Memory is that of one chunk (a few times its bytes) plus, per row, one id string and one 8-byte hash, plus
-the codes the cluster weights keep (at most the exact limit's rows, else the sample's).
+the codes the cluster weights keep (at most the exact limit's rows, else the sample's); the temporary
+file takes one byte per cell of disk (``TMPDIR``).
 
 When to stream (:func:`plan_reading`): always with ``--chunk-rows N``; otherwise when the estimated
 in-memory need (three times the uncompressed file size plus the code matrix, taken as the file size)
@@ -37,7 +39,7 @@ from globcons.analysis.summary import ColumnSummary, TopRows, cluster_counter, c
 from globcons.core.weights import SCHEMES
 from globcons.errors import InputWarning, OptionError
 from globcons.io.checks import unique_ids
-from globcons.io.chunks import STREAM_FORMATS, ChunkedFasta, chunk_rows_for, reblock
+from globcons.io.chunks import STREAM_FORMATS, ChunkedFasta, SpooledBlocks, chunk_rows_for, reblock
 from globcons.io.formats import FORMATS, format_from_name
 from globcons.io.frame_labels import carried_labels
 from globcons.io.opening import BOM, GZIP_MAGIC, InputSource, read_checked
@@ -193,9 +195,12 @@ def summarise_file(source: str | os.PathLike | BinaryIO, options: ScoreOptions, 
         _refuse(options, keep_inserts, fmt)
         reader = ChunkedFasta(opened, fmt, chunk_rows or chunk_rows_for(opened), options.reference)
         top = TopRows()
-        passes = iter((True, False))
-        counted = count_blocks(lambda: reblock(reader.matrices(next(passes))), None, options.weights, top,
-                               cluster_counter(options))
+        # Pass 1 parses the file and spools its codes; pass 2 reads the codes back.
+        blocks = SpooledBlocks(lambda: reblock(reader.matrices(True)))
+        try:
+            counted = count_blocks(blocks, None, options.weights, top, cluster_counter(options))
+        finally:
+            blocks.close()
     finally:
         opened.close()
     n_rows = len(reader.ids)

@@ -18,15 +18,8 @@ from globcons.analysis.options import ScoreOptions
 from globcons.core.alignment import Alignment
 from globcons.core.alphabet import N_CODES, N_RESIDUES
 from globcons.core.counts import CHUNK_ROWS, block_counts
-from globcons.core.weights import (
-    ClusterCounts,
-    HenikoffSums,
-    NeighbourCounts,
-    hash_powers,
-    henikoff_raw,
-    henikoff_table,
-    row_hashes,
-)
+from globcons.core.neighbours import ClusterCounts, NeighbourCounts
+from globcons.core.weights import HenikoffSums, hash_powers, henikoff_raw, henikoff_table, row_hashes
 from globcons.errors import OptionError
 
 __all__ = ["ColumnSummary", "TopRows", "BlockCounts", "count_blocks", "cluster_counter", "matrix_blocks",
@@ -122,7 +115,7 @@ def count_blocks(blocks: Callable[[], Iterable[np.ndarray]], n_columns: int | No
     top
         Filled with the anchor candidates during the first pass, if given.
     clusters
-        How the cluster weights are counted (default: :class:`~globcons.core.weights.ClusterCounts`
+        How the cluster weights are counted (default: :class:`~globcons.core.neighbours.ClusterCounts`
         with its defaults).
 
     Returns
@@ -169,7 +162,7 @@ def count_blocks(blocks: Callable[[], Iterable[np.ndarray]], n_columns: int | No
         weighted += block_counts(block, raw)
         if empty.any():
             empty_counts += block_counts(block[empty])
-    neff_counts, neighbours = clusters.finish(n_columns)
+    neff_counts, neighbours = clusters.finish(plain.reshape(n_columns, N_CODES))
     if scheme == "none":
         counts = plain.reshape(n_columns, N_CODES)
     elif scheme == "cluster":
@@ -198,8 +191,9 @@ def rows_alignment(alignment_ids: Sequence[str], index: np.ndarray, codes: np.nd
 
 
 def cluster_counter(options: ScoreOptions) -> ClusterCounts:
-    """The :class:`~globcons.core.weights.ClusterCounts` the options ask for."""
-    return ClusterCounts(options.identity, options.neff_exact_rows)
+    """The :class:`~globcons.core.neighbours.ClusterCounts` the options ask for."""
+    return ClusterCounts(options.identity, options.neff_exact_rows, query_rows=options.neff_sample,
+                         per_row=options.weights == "cluster")
 
 
 def summarise_alignment(alignment: Alignment, options: ScoreOptions) -> ColumnSummary:

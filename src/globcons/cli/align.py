@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from globcons.cli.options import shuffles_option
-from globcons.cli.reporting import Reporter, common
+from globcons.cli.reporting import Reporter, common, count_progress
 from globcons.io.formats import ALIGNMENT_OUTPUTS
 
 __all__ = ["align"]
@@ -33,24 +33,24 @@ def align(sequences: str, output: str | None, out_format: str | None, keep_inser
     from globcons.align.layout import align_to_frame
     from globcons.align.significance import GLOBIN_EVALUE
     from globcons.errors import InputError
-    from globcons.io.atomic import atomic_output, check_not_input
+    from globcons.io.atomic import atomic_output, check_outputs
     from globcons.io.formats import alignment_format_for
     from globcons.io.frame_labels import encode_labels, label_sidecar_table, sidecar_path
     from globcons.io.records import read_sequences
-    from globcons.io.tables import write_table
+    from globcons.io.tables import metadata_path, write_table
     from globcons.io.writers import format_alignment
 
     inputs = [sequences]
     fmt = out_format or ("stockholm" if output in (None, "-") else alignment_format_for(output))
     sidecar = sidecar_path(output) if fmt != "stockholm" and output not in (None, "-") else None
-    for path in (output, report_path, sidecar):
-        if path is not None:
-            check_not_input(path, inputs)
+    check_outputs({"-o": output, "-o's frame labels": sidecar, "--report": report_path,
+                   "--report's metadata": metadata_path(report_path)}, inputs)
     records = [(r.id, r.sequence) for r in read_sequences(sequences)]
     empty = [r[0] for r in records if not r[1]]
     if empty:
         raise InputError(f"sequence {empty[0]!r} is empty", source=str(sequences))
-    result = align_to_frame(records, keep_inserts=keep_inserts, shuffles=shuffles)
+    with count_progress(reporter, "placing", "sequences", len(records)) as advance:
+        result = align_to_frame(records, keep_inserts=keep_inserts, shuffles=shuffles, progress=advance)
     text = format_alignment(result.ids, list(result.rows), fmt,
                             column_annotations=encode_labels(result.labels) if fmt == "stockholm" else None)
     with atomic_output(output, inputs) as stream:

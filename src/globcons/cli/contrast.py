@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING, Any
 
 import click
 
-from globcons.cli.options import alignment_argument, grouping_options, reader_options
+from globcons.cli.options import alignment_argument, column_limit, grouping_options, reader_options
 from globcons.cli.reporting import Reporter, common
 from globcons.core.weights import SCHEMES
 from globcons.io.formats import TABLE_FORMATS
@@ -74,7 +74,7 @@ def contrast_from_options(aligned: Alignment, kw: Mapping[str, Any], weights: st
 @common
 def contrast(alignment: str, output: str | None, table_format: str | None, figure_path: str | None, top: int,
              reference: str | None, no_frame: bool, weights: str, identity: float, max_gaps: float, fmt: str | None,
-             keep_inserts: bool, reporter: Reporter, **kw: Any) -> None:
+             keep_inserts: bool, max_columns: int | None, reporter: Reporter, **kw: Any) -> None:
     """Find the columns of ALIGNMENT that set groups of sequences apart.
 
     Per column: each group's consensus and conservation, the contrast between the groups (Jensen-Shannon
@@ -84,18 +84,16 @@ def contrast(alignment: str, output: str | None, table_format: str | None, figur
     """
     from globcons.analysis.contrast import summarise_contrast, top_contrast
     from globcons.io.alignments import read_alignment
-    from globcons.io.atomic import check_not_input
-    from globcons.io.tables import write_table
+    from globcons.io.atomic import check_outputs
+    from globcons.io.tables import metadata_path, write_table
 
     inputs = [alignment, kw.get("groups_file")]
-    for path in (output, figure_path):
-        if path is not None:
-            check_not_input(path, inputs)
+    check_outputs({"-o": output, "-o's metadata": metadata_path(output), "--figure": figure_path}, inputs)
     if figure_path is not None:
         from globcons.plots.output import figure_format  # matplotlib only when a figure is asked for
 
         figure_format(figure_path)
-    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=column_limit(max_columns))
     groups, table = contrast_from_options(aligned, kw, weights, identity, max_gaps, reference, not no_frame)
     written = write_table(table, output, table_format, metadata=table.attrs, inputs=inputs,
                           caption=f"Group contrast of {os.path.basename(str(alignment))}")

@@ -8,7 +8,9 @@ from typing import Any
 import click
 
 from globcons.cli.options import (
+    LOGO_MAX_COLUMNS,
     alignment_argument,
+    column_limit,
     frame_options,
     rate_options,
     reader_options,
@@ -38,7 +40,7 @@ _OUTPUT_HELP = f"Figure file; the format follows the extension ({', '.join(FIGUR
 @scoring_options
 @common
 def logo(alignment: str, output: str, label_range: str | None, column_spec: str | None, title: str | None,
-         fmt: str | None, keep_inserts: bool, reporter: Reporter, **kw: Any) -> None:
+         fmt: str | None, keep_inserts: bool, max_columns: int | None, reporter: Reporter, **kw: Any) -> None:
     """Draw a weighted sequence logo of ALIGNMENT (all columns, or a --range / --columns region).
 
     Letter heights are information in bits with the small-sample correction; gap-rich columns are
@@ -56,7 +58,7 @@ def logo(alignment: str, output: str, label_range: str | None, column_spec: str 
     figure_format(output)
     check_not_input(output, [alignment])
     options = score_options(kw)
-    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=column_limit(max_columns))
     table = score_columns(aligned, options)
     if label_range is not None:
         if not (table["frame_label"] != "").any():
@@ -66,6 +68,10 @@ def logo(alignment: str, output: str, label_range: str | None, column_spec: str 
         chosen = column_range(table, column_spec, by="column")
     else:
         chosen = list(table["column"].astype(int))
+    most = LOGO_MAX_COLUMNS if max_columns is None else max_columns
+    if len(chosen) > most:
+        raise OptionError(f"a logo of {len(chosen)} columns is more than the {most} drawn at most (about 2 ms a "
+                          f"letter): choose a region with --range or --columns, or give --max-columns {len(chosen)}")
     rows = table.set_index("column").loc[chosen]
     labels = list(rows["frame_label"].astype(str))
     region = label_range or (f"columns {column_spec}" if column_spec else "all columns")
@@ -90,7 +96,7 @@ def logo(alignment: str, output: str, label_range: str | None, column_spec: str 
 @scoring_options
 @common
 def profile(alignment: str, output: str, score: str, title: str | None, fmt: str | None, keep_inserts: bool,
-            reporter: Reporter, **kw: Any) -> None:
+            max_columns: int | None, reporter: Reporter, **kw: Any) -> None:
     """Draw a conservation score of ALIGNMENT along the frame positions.
 
     Helices are labelled bands, markers are coloured by column class, functional sites are marked and named.
@@ -105,7 +111,7 @@ def profile(alignment: str, output: str, score: str, title: str | None, fmt: str
     check_not_input(output, [alignment, kw.get("sites_path"), kw.get("tree_path")])
     if score != "rates" and (kw.get("tree_path") or kw.get("tree_output")):
         raise click.UsageError("--tree and --tree-output go with --score rates")
-    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=column_limit(max_columns))
     table = score_columns(aligned, score_options(kw))
     if score == "rates":
         table = with_rates(table, aligned, kw, [alignment, kw.get("tree_path"), output], reporter.info)

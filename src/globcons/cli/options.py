@@ -16,7 +16,9 @@ import click
 from globcons.align.significance import DEFAULT_SHUFFLES
 from globcons.core.alphabet import RESIDUE_GROUPS
 from globcons.core.classes import ClassRules
-from globcons.core.weights import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, SCHEMES
+from globcons.core.neighbours import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, NEFF_QUERY_ROWS
+from globcons.core.weights import SCHEMES
+from globcons.io.checks import MAX_COLUMNS
 from globcons.io.formats import FORMATS, TABLE_FORMATS
 from globcons.phylo.rates import EXACT_MAX_ROWS
 
@@ -28,7 +30,10 @@ if TYPE_CHECKING:
     from globcons.phylo.rates import RateOptions
 
 __all__ = [
+    "LOGO_MAX_COLUMNS",
     "alignment_argument",
+    "column_limit",
+    "paper_options",
     "frame_options",
     "grouping_options",
     "rate_options",
@@ -39,6 +44,7 @@ __all__ = [
     "score_options",
     "scoring_options",
     "shuffles_option",
+    "structure_options",
     "target_options",
 ]
 
@@ -47,6 +53,8 @@ F = TypeVar("F", bound=Callable[..., Any])
 RESIDUE_GROUP_NAMES = tuple(sorted(RESIDUE_GROUPS))
 #: The class rules' defaults (read from the dataclass: building one would load the matrix).
 _RULES = {field.name: field.default for field in fields(ClassRules)}
+#: Most columns ``logo`` draws unless --max-columns says otherwise (about 2 ms a letter).
+LOGO_MAX_COLUMNS = 2_000
 
 
 def _apply(command: F, options: Sequence[Callable[[F], F]]) -> F:
@@ -61,13 +69,23 @@ alignment_argument = click.argument("alignment", metavar="ALIGNMENT", type=click
 
 
 def reader_options(command: F) -> F:
-    """--format and --keep-inserts: how an alignment file is read."""
+    """--format, --keep-inserts and --max-columns: how an alignment file is read."""
     return _apply(command, [
         click.option("--format", "fmt", type=click.Choice(FORMATS), default=None,
                      help="Input format (default: sniffed from the content; .a2m selects A2M)."),
         click.option("--keep-inserts", is_flag=True,
                      help="A2M: keep insert states (lower case, '.') as columns instead of dropping them."),
+        click.option("--max-columns", type=click.IntRange(1, None), default=None, metavar="N",
+                     help=f"Refuse alignments of more columns (default {MAX_COLUMNS:,}, none for `columns`, whose "
+                          f"table is computed for all columns at once; a logo draws at most {LOGO_MAX_COLUMNS:,} "
+                          "unless N is given)."),
     ])
+
+
+
+def column_limit(max_columns: int | None) -> int:
+    """The column limit of --max-columns (default :data:`~globcons.io.checks.MAX_COLUMNS`)."""
+    return MAX_COLUMNS if max_columns is None else max_columns
 
 
 def scoring_options(command: F) -> F:
@@ -81,6 +99,9 @@ def scoring_options(command: F) -> F:
         click.option("--neff-exact-rows", type=click.IntRange(0, None), default=NEFF_EXACT_MAX_ROWS,
                      show_default=True,
                      help="Up to this many rows the clusters compare every pair; above, a fixed sample."),
+        click.option("--neff-sample", type=click.IntRange(2, None), default=NEFF_QUERY_ROWS, show_default=True,
+                     help="Above --neff-exact-rows: sampled rows, each compared with every row, behind the "
+                          "estimated effective number (its standard error is reported)."),
         click.option("--matrix", default=_RULES["matrix"], show_default=True,
                      help="Substitution matrix (any Biopython ships) judging conservative groups."),
         click.option("--residue-groups", type=click.Choice(RESIDUE_GROUP_NAMES), default=None,
@@ -137,6 +158,7 @@ def score_options(kw: Mapping[str, Any]) -> ScoreOptions:
                        confidence=kw["confidence"], prior_weight=kw["prior_weight"], matrix=kw["matrix"],
                        residue_groups=kw["residue_groups"], min_neff=kw["min_neff"])
     return ScoreOptions(weights=kw["weights"], identity=kw["identity"], neff_exact_rows=kw["neff_exact_rows"],
+                        neff_sample=kw["neff_sample"],
                         window=kw["window"], rules=rules,
                         reference=kw.get("reference"), frame=not kw.get("no_frame", False),
                         sites_path=kw.get("sites_path"), replace_sites=kw.get("replace_sites", False))
@@ -161,6 +183,20 @@ def target_options(command: F) -> F:
         click.option("-o", "--output", default=None, help="Output table (default: standard output)."),
         click.option("--table", "table_format", type=click.Choice(TABLE_FORMATS), default=None,
                      help="Table format (default: from the extension, else tsv)."),
+        click.option("--allow-non-globin", is_flag=True,
+                     help="Judge a target that does not place significantly on the globin frame (refused "
+                          "otherwise); every row then says 'not a globin'."),
+    ])
+
+
+def structure_options(command: F) -> F:
+    """--structure and --chain: a PDB or mmCIF file whose coordinates add burial, heme contacts and interfaces."""
+    return _apply(command, [
+        click.option("--structure", "structure_path", type=click.Path(dir_okay=True), default=None,
+                     help="PDB or mmCIF file (gzip too): adds accessibility, burial, heme contacts and chain "
+                          "interfaces from its first model."),
+        click.option("--chain", "chain_id", default=None,
+                     help="The target's chain in --structure (the others are its partners)."),
     ])
 
 
@@ -176,9 +212,30 @@ def grouping_options(command: F) -> F:
                      help="Leave out groups whose effective size (summed weight) is smaller."),
         click.option("--permutations", type=click.IntRange(0, 100000), default=0, show_default=True,
                      help="Add a permutation p-value from K shuffles of the group labels (0: off)."),
-        click.option("--seed", type=int, default=0, show_default=True, help="Seed of the permutations."),
+        click.option("--seed", type=click.IntRange(0, 2**63 - 1), default=0, show_default=True,
+                     help="Seed of the permutations (a whole number from 0)."),
         click.option("--conserved-min", type=float, default=0.8, show_default=True,
-                     help="Share of a group's residue weight its consensus needs for the group to be conserved."),
+                     help="A group is conserved when its most common residue makes up at least this share of its "
+                          "residues (each sequence counted with its weight, gaps not counted)."),
+    ])
+
+
+def _comma_list(ctx: click.Context, param: click.Parameter, value: str | None) -> list[str]:
+    """A comma-separated option as a list of names, blanks dropped."""
+    return [item.strip() for item in (value or "").split(",") if item.strip()]
+
+
+def paper_options(command: F) -> F:
+    """--only-classes, --only-labels and --tex-columns: the column table as a paper shows it (columns, report)."""
+    return _apply(command, [
+        click.option("--only-classes", default=None, callback=_comma_list, metavar="LIST",
+                     help="Keep only the columns of these classes in the table (comma-separated, e.g. "
+                          "invariant,conservative)."),
+        click.option("--only-labels", default=None, callback=_comma_list, metavar="LIST",
+                     help="Keep only the columns at these frame labels (comma-separated, e.g. E7,E11,F8)."),
+        click.option("--tex-columns", default=None, callback=_comma_list, metavar="LIST",
+                     help="Columns of the tex table (comma-separated; 'all' for every one). Default: column, "
+                          "frame_label, class, support, consensus, conservation, gap_fraction, n_eff, sites."),
     ])
 
 

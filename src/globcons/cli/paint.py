@@ -6,7 +6,7 @@ from typing import Any
 
 import click
 
-from globcons.cli.options import rate_options, reader_options, score_options, scoring_options, with_rates
+from globcons.cli.options import column_limit, rate_options, reader_options, score_options, scoring_options, with_rates
 from globcons.cli.reporting import Reporter, common
 from globcons.structure.paint import SCORES, SENTINEL
 
@@ -31,7 +31,7 @@ __all__ = ["paint"]
 @scoring_options
 @common
 def paint(structure: str, alignment_path: str, chain: str | None, score: str, unmapped_value: float, output: str,
-          fmt: str | None, keep_inserts: bool, reporter: Reporter, **kw: Any) -> None:
+          fmt: str | None, keep_inserts: bool, max_columns: int | None, reporter: Reporter, **kw: Any) -> None:
     """Write a column score of ALIGNMENT into the B-factors of a STRUCTURE (PDB or mmCIF).
 
     The chain's residues are placed on the alignment's columns by aligning its sequence to the
@@ -48,7 +48,8 @@ def paint(structure: str, alignment_path: str, chain: str | None, score: str, un
     if score != "rates" and (kw.get("tree_path") or kw.get("tree_output")):
         raise click.UsageError("--tree and --tree-output go with --score rates")
     options = score_options(kw)
-    aligned = read_alignment(alignment_path, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(alignment_path, format=fmt, keep_inserts=keep_inserts,
+                             max_columns=column_limit(max_columns))
     table = score_columns(aligned, options)
     if score == "rates":
         table = with_rates(table, aligned, kw, [*inputs, output], reporter.info)

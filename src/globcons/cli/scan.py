@@ -3,18 +3,16 @@
 from __future__ import annotations
 
 import contextlib
-import sys
 from collections.abc import Iterable
 from typing import IO, TYPE_CHECKING
 
 import click
 
-from globcons.cli.options import reader_options, shuffles_option
-from globcons.cli.reporting import Reporter, common
+from globcons.cli.options import column_limit, reader_options, shuffles_option
+from globcons.cli.reporting import Reporter, common, count_progress, shows_progress
 
 if TYPE_CHECKING:
     import pandas as pd
-    from rich.progress import Progress
 
     from globcons.analysis.family import Family
 
@@ -41,7 +39,7 @@ __all__ = ["scan"]
 @common
 def scan(sequences: str, family_path: str | None, output: str | None, residues_path: str | None,
          table_format: str | None, jobs: int | None, batch_size: int, shuffles: int, heatmap_path: str | None,
-         fmt: str | None, keep_inserts: bool, reporter: Reporter) -> None:
+         fmt: str | None, keep_inserts: bool, max_columns: int | None, reporter: Reporter) -> None:
     """Scan new SEQUENCES (FASTA, gzip, '-' for stdin) against the globin family.
 
     Per sequence: is it a globin, its nearest reference, helices present, key residues and heme
@@ -50,50 +48,56 @@ def scan(sequences: str, family_path: str | None, output: str | None, residues_p
     """
     from globcons._version import __version__
     from globcons.analysis.scanning import default_jobs
-    from globcons.io.atomic import check_not_input
+    from globcons.io.atomic import atomic_batch, check_outputs
     from globcons.io.records import stream_records
     from globcons.io.tables import metadata_path, write_metadata
 
     inputs = [sequences, family_path]
-    for path in (output, residues_path, heatmap_path):
-        if path is not None:
-            check_not_input(path, inputs)
+    check_outputs({"-o": output, "-o's metadata": metadata_path(output), "--residues": residues_path,
+                   "--heatmap": heatmap_path}, inputs)
     if heatmap_path is not None:
         from globcons.plots.output import figure_format  # matplotlib only when a figure is asked for
 
         figure_format(heatmap_path)  # fail on a bad extension before the work
-    meta = metadata_path(output)
-    if meta is not None:
-        check_not_input(meta, inputs)
-    family = _load_family(family_path, fmt, keep_inserts, reporter)
+    family = _load_family(family_path, fmt, keep_inserts, reporter, column_limit(max_columns))
     if family.thin:
         reporter.warn(family.describe())
     jobs = jobs or default_jobs()
+    total = None
+    if shows_progress(reporter):  # a total for the display: one cheap pass counting the headers of a file
+        from globcons.io.counting import count_records
+
+        total = count_records(sequences)
     records = ((r.id, r.sequence) for r in stream_records(sequences))
-    counts, kept = _write_scan(records, family, output, residues_path, table_format, inputs, jobs, batch_size,
-                               shuffles, keep_residues=heatmap_path is not None, reporter=reporter)
-    reporter.info(f"scanned {counts['sequences']} sequences: {counts['globins']} globins, {counts['departing']} "
+    with atomic_batch():  # the tables, the heat map and the metadata land together or not at all
+        counts, kept = _write_scan(records, family, output, residues_path, table_format, inputs, jobs, batch_size,
+                                   shuffles, keep_residues=heatmap_path is not None, reporter=reporter, total=total)
+        if heatmap_path is not None and kept:
+            import pandas as pd
+
+            from globcons.plots.heatmap import draw_departure_heatmap
+            from globcons.plots.output import save_figure
+
+            save_figure(draw_departure_heatmap(pd.concat(kept, ignore_index=True)), heatmap_path, inputs)
+        written = [p for p in (output, residues_path, heatmap_path) if p not in (None, "-")]
+        meta = metadata_path(output)
+        if meta is not None:
+            written.append(write_metadata(meta, {
+                "tool": "globcons", "version": __version__, "family": family.name,
+                "family_effective_sequences": round(family.n_eff, 6), "thin_family": family.thin,
+                "shuffles": shuffles, "sequences": counts["sequences"],
+                "globins": counts["globins"] if shuffles else None}, inputs))
+    globins = (f"{counts['globins']} globins" if shuffles else
+               "no significance computed (--shuffles 0), so is_globin is left blank")
+    reporter.info(f"scanned {counts['sequences']} sequences: {globins}, {counts['departing']} "
                   f"with departures from the family's invariant or conservative columns ({jobs} worker"
                   f"{'s' if jobs > 1 else ''})")
-    if heatmap_path is not None and kept:
-        import pandas as pd
-
-        from globcons.plots.heatmap import draw_departure_heatmap
-        from globcons.plots.output import save_figure
-
-        save_figure(draw_departure_heatmap(pd.concat(kept, ignore_index=True)), heatmap_path, inputs)
-    written = [p for p in (output, residues_path, heatmap_path) if p not in (None, "-")]
-    meta = metadata_path(output)
-    if meta is not None:
-        written.append(write_metadata(meta, {
-            "tool": "globcons", "version": __version__, "family": family.name,
-            "family_effective_sequences": round(family.n_eff, 6), "thin_family": family.thin,
-            "shuffles": shuffles, "sequences": counts["sequences"], "globins": counts["globins"]}, inputs))
     if written:
         reporter.info("wrote " + ", ".join(written))
 
 
-def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, reporter: Reporter) -> Family:
+def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, reporter: Reporter,
+                 max_columns: int | None = None) -> Family:
     """The family of --family (its columns tied to the frame), else the built-in frame family."""
     from globcons.align.anchor import map_columns
     from globcons.analysis.family import family_from_alignment, frame_family
@@ -101,7 +105,7 @@ def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, r
 
     if family_path is None:
         return frame_family()
-    aligned = read_alignment(family_path, format=fmt, keep_inserts=keep_inserts)
+    aligned = read_alignment(family_path, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns)
     mapping = map_columns(aligned)
     family = family_from_alignment(aligned, labels=mapping.labels)
     reporter.info(f"family: {aligned.n_rows} sequences, {aligned.n_columns} columns; {mapping.note}")
@@ -110,8 +114,11 @@ def _load_family(family_path: str | None, fmt: str | None, keep_inserts: bool, r
 
 def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str | None, residues_path: str | None,
                 table_format: str | None, inputs: list[str | None], jobs: int, batch_size: int, shuffles: int,
-                keep_residues: bool, reporter: Reporter) -> tuple[dict[str, int], list[pd.DataFrame]]:
+                keep_residues: bool, reporter: Reporter,
+                total: int | None = None) -> tuple[dict[str, int], list[pd.DataFrame]]:
     """Scan ``records`` batch by batch, appending each batch's rows to the summary and residue tables.
+
+    On a terminal a progress display counts the sequences done, of ``total`` when it is known.
 
     Returns
     -------
@@ -132,11 +139,7 @@ def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str 
     with contextlib.ExitStack() as stack:
         out = stack.enter_context(atomic_output(output, inputs))
         res = stack.enter_context(atomic_output(residues_path, inputs)) if residues_path else None
-        progress = _progress(reporter)
-        task = None
-        if progress is not None:
-            stack.enter_context(progress)
-            task = progress.add_task("scanning", total=None)
+        advance = stack.enter_context(count_progress(reporter, "scanning", "sequences", total))
         first = True
         for summary, residues in iter_scan(records, family, residues=res is not None or keep_residues, jobs=jobs,
                                            batch_size=batch_size, shuffles=shuffles):
@@ -149,8 +152,7 @@ def _write_scan(records: Iterable[tuple[str, str]], family: Family, output: str 
             counts["sequences"] += len(summary)
             counts["globins"] += int((summary["is_globin"] == "yes").sum())
             counts["departing"] += int((summary["departures"] > 0).sum())
-            if progress:
-                progress.update(task, advance=len(summary))
+            advance(len(summary))
         if first:  # no record at all: still a header
             _write_rows(out, pd.DataFrame(columns=list(SUMMARY_COLUMNS)), summary_format, header=True)
     return counts, kept
@@ -162,14 +164,3 @@ def _write_rows(stream: IO[str], table: pd.DataFrame, fmt: str, header: bool) ->
 
     text = format_table(table, fmt)
     stream.write(text if header else text.split("\n", 1)[1])
-
-
-def _progress(reporter: Reporter) -> Progress | None:
-    """A rich progress display on a terminal; None when quiet or not a terminal."""
-    if reporter.quiet or not sys.stderr.isatty():
-        return None
-    from rich.console import Console
-    from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
-
-    return Progress(SpinnerColumn(), TextColumn("{task.description}: {task.completed} sequences"),
-                    TimeElapsedColumn(), console=Console(stderr=True), transient=True)

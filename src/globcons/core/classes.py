@@ -18,7 +18,9 @@ function (``scipy.special.betainc``).
 
 Rules, in order (every threshold is a field of :class:`ClassRules`):
 
-1. ``gap-rich``: the weighted gap fraction is above ``max_gaps``;
+1. ``gap-rich``: the weighted share of rows without a residue there, gaps and unknowns (X, B, Z, J), is above
+   ``max_gaps``: a column of only X has nothing to class, so it is gap-rich (and ``low_data``), never
+   ``variable``;
 2. ``invariant``: the posterior probability that the most frequent residue's share is at least
    ``invariant_min`` (0.8) is at least ``confidence`` (0.9);
 3. ``conservative``: the same for the share of the column's substitution group and ``group_min``
@@ -37,13 +39,22 @@ outlier in fifty moves nothing. A column whose ``n_eff`` is below ``min_neff`` i
 
 from __future__ import annotations
 
+import math
 from dataclasses import asdict, dataclass
 
 import numpy as np
 
 from globcons.core.alphabet import GROUP_SOURCES, N_RESIDUES, N_STANDARD, RESIDUE_GROUPS
+from globcons.core.incomplete_beta import regularized_incomplete_beta
 from globcons.core.matrices import DEFAULT_MATRIX, compatible_pairs, load_matrix
-from globcons.core.scores import BLOSUM62_BACKGROUND, LOG2_20, entropy_bits, gap_fraction, residue_frequencies
+from globcons.core.scores import (
+    BLOSUM62_BACKGROUND,
+    LOG2_20,
+    entropy_bits,
+    gap_fraction,
+    residue_frequencies,
+    unknown_fraction,
+)
 from globcons.core.vocabulary import CLASSES
 from globcons.errors import OptionError
 
@@ -83,6 +94,9 @@ class ClassRules:
             raise OptionError(f"--confidence must be in (0, 1), got {self.confidence}")
         if not self.prior_weight > 0.0:
             raise OptionError(f"--prior-weight must be above 0, got {self.prior_weight}")
+        for name in ("max_gaps", "invariant_min", "group_min", "confidence", "prior_weight", "min_neff"):
+            if not math.isfinite(getattr(self, name)):  # nan passes every comparison below unnoticed
+                raise OptionError(f"--{name.replace('_', '-')} must be a number, got {getattr(self, name)}")
         if self.min_neff < 0:
             raise OptionError(f"--min-neff must not be negative, got {self.min_neff}")
         if self.residue_groups is not None and self.residue_groups not in RESIDUE_GROUPS:
@@ -133,11 +147,9 @@ def share_above(share: np.ndarray, prior: np.ndarray, n: np.ndarray, threshold: 
     The share is ``Beta(A q + n f, A (1 - q) + n (1 - f))`` (see the module notes), with ``f`` the
     observed ``share``, ``q`` its ``prior`` share and ``A`` the prior weight; any shape.
     """
-    from scipy.special import betainc  # the incomplete beta function; scipy only loads when classes are made
-
     a = prior_weight * prior + n * share
     b = prior_weight * (1.0 - prior) + n * (1.0 - share)
-    return 1.0 - betainc(np.maximum(a, 1e-12), np.maximum(b, 1e-12), threshold)
+    return 1.0 - regularized_incomplete_beta(np.maximum(a, 1e-12), np.maximum(b, 1e-12), threshold)
 
 
 def classify(frequencies: np.ndarray, gap_fraction: np.ndarray, n_eff: np.ndarray,
@@ -249,5 +261,6 @@ def column_statistics(counts: np.ndarray, neff_counts: np.ndarray | None = None,
     frequencies = residue_frequencies(counts)
     gaps = gap_fraction(counts)
     n_eff = neff_counts[:, :N_RESIDUES].sum(axis=1)
-    classes, support, low_data, groups = classify(frequencies, gaps, n_eff, rules, neff_counts.sum(axis=1))
+    missing = gaps + unknown_fraction(counts)  # rows with no residue here: the gap-rich rule counts both
+    classes, support, low_data, groups = classify(frequencies, missing, n_eff, rules, neff_counts.sum(axis=1))
     return ColumnStatistics(frequencies, gaps, n_eff, entropy_bits(counts), classes, support, low_data, groups)

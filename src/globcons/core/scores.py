@@ -195,19 +195,22 @@ def smooth_window(score: np.ndarray, window: int, weight: float = 0.5) -> np.nda
     """
     if window <= 0 or score.size < 2:
         return score.copy()
+    window = min(window, score.size - 1)  # wider than the alignment: every other column is a neighbour
     padded_sum = np.convolve(score, np.ones(2 * window + 1), mode="same") - score
     neighbours = np.convolve(np.ones_like(score), np.ones(2 * window + 1), mode="same") - 1
     return (1.0 - weight) * score + weight * padded_sum / neighbours
 
 
 def consensus(counts: np.ndarray) -> np.ndarray:
-    """Most weighted residue of each column (ties: alphabetical), '-' where the column has none.
+    """Most weighted residue of each column (ties: alphabetical); where the column has none, 'X' if it holds
+    unknowns (X, B, Z, J) and '-' if only gaps.
 
     Returns an object array of letters with the shape of ``counts`` less its last axis.
     """
     residues = counts[..., :N_RESIDUES]
     letters = np.array(list(CODE_LETTERS[:N_RESIDUES]), dtype=object)[residues.argmax(axis=-1)]
-    return np.where(residues.max(axis=-1) > 0, letters, "-").astype(object)
+    empty = np.where(counts[..., UNKNOWN] > 0, "X", "-") if counts.shape[-1] > UNKNOWN else "-"
+    return np.where(residues.max(axis=-1) > 0, letters, empty).astype(object)
 
 
 def residue_strings(frequencies: np.ndarray, digits: int = 2) -> list[str]:

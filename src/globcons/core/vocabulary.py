@@ -7,7 +7,7 @@ wherever it is used, so a table, a figure legend and a check can never disagree 
 
 from __future__ import annotations
 
-__all__ = ["CLASSES", "VERDICTS", "DEVIATIONS", "CONTRAST_CLASSES", "CAUTION"]
+__all__ = ["CLASSES", "VERDICTS", "DEVIATIONS", "CONTRAST_CLASSES", "BURIAL_CLASSES", "CAUTION"]
 
 #: Column classes of ``globcons columns``, from most to least constrained, then ``gap-rich``.
 CLASSES: tuple[str, ...] = ("invariant", "conservative", "variable", "gap-rich")
@@ -21,6 +21,9 @@ DEVIATIONS: tuple[str, ...] = ("none", "insertion", "leaves-group", "breaks-inva
 
 #: Column classes of ``globcons contrast``.
 CONTRAST_CLASSES: tuple[str, ...] = ("group-specific", "shared", "mixed", "gap-rich")
+
+#: Burial classes of a residue in a structure (``plan``/``check``/``columns --structure``), most buried first.
+BURIAL_CLASSES: tuple[str, ...] = ("core", "boundary", "surface")
 
 #: Printed by every ``check`` and ``plan`` run, ending their Markdown output, in the report and the demo.
 CAUTION = ("Caution: these are family-conservation predictions for research, not a clinical interpretation. "

@@ -15,7 +15,7 @@ from globcons.errors import InputError
 from globcons.frame.reference import ReferenceChain, data_text, label_positions, reference_chain, reference_chains
 from globcons.io.opening import read_text
 
-__all__ = ["Site", "SITE_COLUMNS", "sites", "sites_at", "column_sites"]
+__all__ = ["Site", "SITE_COLUMNS", "sites", "sites_at", "column_sites", "check_user_sites"]
 
 #: Columns a site table may have (``label`` or ``column``, and ``role``, are required; others are ignored).
 SITE_COLUMNS = ("label", "column", "chains", "role", "kind", "reference", "certainty", "note")
@@ -101,6 +101,9 @@ def _read_sites(text: str, source: str) -> tuple[Site, ...]:
         column = None
         if column_text and not label and is_label(column_text):
             label, column_text = column_text, ""  # a frame label under a "column" heading
+        if column_text and label:
+            raise InputError(f"site row gives both label {label!r} and column {column_text!r}; give one of them",
+                             source, number)
         if column_text:
             if not column_text.isdigit() or int(column_text) < 1:
                 raise InputError(f"column {column_text!r} is not an alignment column number (1, 2, ...)",
@@ -184,6 +187,26 @@ def sites_at(label: str, chain: str | ReferenceChain | None = None,
     name = reference_chain(chain).name
     return tuple(site for site in found if site.label == label and _on_chain(site, name))
 
+
+
+def check_user_sites(user_sites: tuple[Site, ...] | None, labels: tuple[str, ...], source: str | None) -> None:
+    """Refuse user sites that would silently land nowhere: a column beyond the alignment, or a label site
+    when the columns carry no frame labels (``--no-frame``, or a family that is not tied to the frame).
+
+    Raises
+    ------
+    InputError
+        Naming the site table, the site and what to do instead.
+    """
+    labelled = any(labels)
+    for site in user_sites or ():
+        if site.column is not None and site.column > len(labels):
+            raise InputError(f"site at column {site.column} ({site.role}) is beyond the alignment's {len(labels)} "
+                             "columns", source)
+        if site.column is None and site.label and not labelled:
+            raise InputError(f"site {site.label} ({site.role}) is given by frame label, but the columns carry no "
+                             "frame labels (--no-frame, or no row placed on the frame); give its column instead",
+                             source)
 
 
 def column_sites(labels: tuple[str, ...], chain: str | None = None,

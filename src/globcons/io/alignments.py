@@ -14,7 +14,8 @@ from typing import BinaryIO
 
 from globcons.core.alignment import Alignment
 from globcons.errors import InputError, OptionError
-from globcons.io.fasta import parse_fasta
+from globcons.io.checks import check_columns
+from globcons.io.fasta import lone_returns_to_newlines, parse_fasta
 from globcons.io.formats import FORMATS, format_from_name
 from globcons.io.frame_labels import carried_labels
 from globcons.io.opening import BOM, InputSource, PathLike, is_blank
@@ -55,6 +56,7 @@ def parse_alignment(data: bytes | bytearray, name: str = "<memory>", format: str
         data = data[len(BOM):]
     if is_blank(data):
         raise InputError("file is empty", source=name)
+    data = lone_returns_to_newlines(data)  # every format reads lines alike: LF, CRLF or a lone CR
     problem = text_problem(data)
     if problem:
         raise InputError(problem, source=name)
@@ -68,7 +70,8 @@ def parse_alignment(data: bytes | bytearray, name: str = "<memory>", format: str
     return parse_phylip_nexus(data, name, fmt)
 
 
-def read_alignment(path: PathLike | BinaryIO, format: str | None = None, keep_inserts: bool = False) -> Alignment:
+def read_alignment(path: PathLike | BinaryIO, format: str | None = None, keep_inserts: bool = False,
+                   max_columns: int | None = None) -> Alignment:
     """Read a protein multiple alignment.
 
     Parameters
@@ -80,6 +83,9 @@ def read_alignment(path: PathLike | BinaryIO, format: str | None = None, keep_in
         (a ``.a2m`` extension selects A2M).
     keep_inserts
         A2M only: keep the insert states as columns (lower case read as residues, '.' as gaps).
+    max_columns
+        Refuse an alignment of more columns (None: no limit; the commands use
+        :data:`~globcons.io.checks.MAX_COLUMNS` unless ``--max-columns`` says otherwise).
 
     Returns
     -------
@@ -104,6 +110,7 @@ def read_alignment(path: PathLike | BinaryIO, format: str | None = None, keep_in
     data = source.read_bytes()
     alignment = parse_alignment(data, source.name, format=format, keep_inserts=keep_inserts,
                                 consume=isinstance(data, bytearray))
+    check_columns(alignment, max_columns)
     if alignment.frame_labels is not None or source.path is None:
         return alignment
     labels, found_in = carried_labels(None, source.path, alignment.n_columns)

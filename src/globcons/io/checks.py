@@ -1,4 +1,5 @@
-"""Rules every alignment reader applies at its end, whatever the format: stops, nucleotides, duplicate ids.
+"""Rules every alignment reader applies at its end, whatever the format: stops, nucleotides, duplicate ids,
+the length of ids (:data:`MAX_ID_LENGTH`) and, when asked, the number of columns (:func:`check_columns`).
 
 Also the shared shape of the readers' error messages (line numbers found from newline offsets, a bad
 character shown as itself or as its byte value).
@@ -15,15 +16,38 @@ from globcons.core.alphabet import STOP, UNKNOWN, looks_like_nucleotide
 from globcons.core.counts import CHUNK_ROWS
 from globcons.errors import InputError, InputWarning
 
-__all__ = ["PROTEIN_SAMPLE", "unique_ids", "check_protein", "stops_to_unknown", "finish_alignment", "line_number",
-           "bad_character"]
+__all__ = ["PROTEIN_SAMPLE", "MAX_ID_LENGTH", "MAX_COLUMNS", "check_id_length", "check_columns", "unique_ids",
+           "check_protein", "stops_to_unknown", "finish_alignment", "line_number", "bad_character"]
 
 #: Codes that decide whether an input is protein: a nucleotide file is nucleotides throughout.
 PROTEIN_SAMPLE = 4_000_000
+#: Longest sequence id read (characters). Database ids are far shorter; a longer one is a broken file, and
+#: writers that align ids (Stockholm pads every row to the longest) would multiply it by the rows.
+MAX_ID_LENGTH = 1000
+#: Most columns a command takes by default (``--max-columns`` raises it): figures, scans against a family
+#: and reports do work per column, and a globin alignment has a few hundred.
+MAX_COLUMNS = 20_000
+
+
+def check_id_length(identifier: str, name: str, line: int | None = None) -> None:
+    """Refuse an id longer than :data:`MAX_ID_LENGTH` characters."""
+    if len(identifier) > MAX_ID_LENGTH:
+        raise InputError(f"sequence id of {len(identifier)} characters (starts {identifier[:20]!r}); ids may "
+                         f"have at most {MAX_ID_LENGTH}", source=name, line=line)
+
+
+def check_columns(alignment: Alignment, max_columns: int | None) -> None:
+    """Refuse an alignment wider than ``max_columns`` (None: no limit), saying how to raise the limit."""
+    if max_columns is not None and alignment.n_columns > max_columns:
+        raise InputError(f"{alignment.n_columns} columns, more than the {max_columns} this command takes "
+                         f"(--max-columns); give --max-columns {alignment.n_columns} to go on",
+                         source=alignment.source)
 
 
 def unique_ids(ids: list[str], name: str) -> list[str]:
     """``ids`` with repeats made unique (``id_2``, ``id_3``...), with one warning saying how many and the first."""
+    if len(set(ids)) == len(ids):
+        return list(ids)
     seen: dict[str, int] = {}
     taken = set(ids)
     result = []
@@ -87,6 +111,7 @@ def finish_alignment(ids: list[str], descriptions: list[str], codes: np.ndarray,
         notes["internal_stops"] = count
         warnings.warn(f"{name}: {count} internal stop(s) '*' counted as unknown residues", InputWarning, stacklevel=3)
     check_protein(codes, name)
+    check_id_length(max(ids, key=len), name)
     ids = unique_ids(ids, name)
     codes.flags.writeable = False
     return Alignment(ids=tuple(ids), codes=codes, descriptions=tuple(descriptions),

@@ -4,13 +4,15 @@ A chunk holds whole records and is parsed by the same byte path as a file in mem
 (:func:`globcons.io.fasta.parse_fasta_rows`); :func:`reblock` re-cuts the chunks' rows into the blocks of
 :data:`~globcons.core.counts.CHUNK_ROWS` rows that the in-memory path uses, so both paths sum the same
 numbers in the same order. The first pass also checks the file (as the in-memory reader does) and
-gathers the ids and the rows a caller asks to keep.
+gathers the ids and the rows a caller asks to keep; :class:`SpooledBlocks` keeps its blocks' codes in a
+temporary file, so the second pass reads them back instead of parsing the file again.
 """
 
 from __future__ import annotations
 
 import re
-from collections.abc import Iterator
+import tempfile
+from collections.abc import Callable, Iterator
 from typing import BinaryIO
 
 import numpy as np
@@ -22,7 +24,8 @@ from globcons.io.fasta import parse_fasta_rows
 from globcons.io.opening import BOM, InputSource, is_blank, read_checked
 from globcons.io.sniff import text_problem
 
-__all__ = ["STREAM_FORMATS", "CHUNK_BYTES", "record_chunks", "ChunkedFasta", "reblock", "chunk_rows_for"]
+__all__ = ["STREAM_FORMATS", "CHUNK_BYTES", "record_chunks", "ChunkedFasta", "reblock", "chunk_rows_for",
+           "SpooledBlocks"]
 
 #: Formats that can be read in chunks.
 STREAM_FORMATS = ("fasta", "a2m")
@@ -192,6 +195,57 @@ def reblock(matrices: Iterator[np.ndarray], rows: int = CHUNK_ROWS) -> Iterator[
             carry = matrix[start:].copy()
     if carry is not None and carry.shape[0]:
         yield carry
+
+
+class SpooledBlocks:
+    """Blocks of rows for two passes: the first from ``first_pass()``, written to a temporary file as they
+    pass; the second read back from that file (one uint8 byte per cell), in the same blocks.
+
+    Blocks of the second pass share one buffer: each is valid until the next is asked for. The temporary
+    file (``tempfile.TemporaryFile``, in ``TMPDIR``) is gone when :meth:`close` is called or the object is
+    collected.
+
+    Parameters
+    ----------
+    first_pass
+        Called once: yields the blocks of the first pass.
+    """
+
+    def __init__(self, first_pass: Callable[[], Iterator[np.ndarray]]) -> None:
+        self._first_pass = first_pass
+        self._spool = tempfile.TemporaryFile(prefix="globcons-codes-")
+        self._rows: list[int] = []
+        self._width = 0
+        self._passes = 0
+
+    def __call__(self) -> Iterator[np.ndarray]:
+        self._passes += 1
+        if self._passes == 1:
+            return self._write()
+        if self._passes == 2:
+            return self._read()
+        raise RuntimeError("spooled blocks are read in two passes only")
+
+    def _write(self) -> Iterator[np.ndarray]:
+        for block in self._first_pass():
+            self._width = block.shape[1]
+            self._rows.append(block.shape[0])
+            self._spool.write(np.ascontiguousarray(block, dtype=np.uint8).data)
+            yield block
+        self._spool.flush()
+
+    def _read(self) -> Iterator[np.ndarray]:
+        self._spool.seek(0)
+        largest = max(self._rows, default=0)
+        buffer = np.empty((largest, self._width), dtype=np.uint8)
+        for rows in self._rows:
+            block = buffer[:rows]
+            if self._spool.readinto(memoryview(block).cast("B")) != block.nbytes:
+                raise OSError("the temporary file of the first pass was cut short")
+            yield block
+
+    def close(self) -> None:
+        self._spool.close()
 
 
 def chunk_rows_for(source: InputSource) -> int:

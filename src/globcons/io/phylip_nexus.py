@@ -17,11 +17,28 @@ __all__ = ["parse_phylip_nexus"]
 PHYLIP_VARIANTS = ("phylip-relaxed", "phylip-sequential", "phylip")
 
 
+def _check_phylip_header(text: str, size: int, name: str) -> None:
+    """Refuse a header whose counts the file cannot hold (Biopython would allocate for them first): every
+    row needs at least its columns' bytes, so rows x columns can never exceed the file's size."""
+    fields = text.lstrip().split(None, 2)
+    if len(fields) < 2 or not (fields[0].isdigit() and fields[1].isdigit()):
+        return
+    rows, columns = int(fields[0]), int(fields[1])
+    if rows == 0 or columns == 0:
+        raise InputError(f"PHYLIP header says {rows} sequences of {columns} columns: nothing to read",
+                         source=name, line=1)
+    if rows * columns > size:
+        raise InputError(f"PHYLIP header says {rows} sequences of {columns} columns, more than a file of {size} "
+                         "bytes can hold", source=name, line=1)
+
+
 def parse_phylip_nexus(data: bytes, name: str, fmt: str) -> Alignment:
     """An alignment from PHYLIP (``fmt="phylip"``, any of :data:`PHYLIP_VARIANTS`) or NEXUS bytes."""
     from Bio import AlignIO
 
     text = data.decode("utf-8", errors="replace").replace("\r\n", "\n")
+    if fmt == "phylip":
+        _check_phylip_header(text, len(data), name)
     attempts = PHYLIP_VARIANTS if fmt == "phylip" else ("nexus",)
     failure = ""
     for attempt in attempts:

@@ -14,6 +14,7 @@ from collections.abc import Callable, Iterator
 from typing import BinaryIO, NamedTuple
 
 from globcons.errors import InputError
+from globcons.io.checks import check_id_length
 from globcons.io.opening import BOM, InputSource, PathLike
 from globcons.io.sniff import text_problem
 
@@ -78,6 +79,7 @@ def _records(source: PathLike | BinaryIO, check: Callable[[str, int, str], None]
                 if not fields:
                     raise InputError("header line has no sequence id", source=opened.name, line=number)
                 identifier, description = fields[0], (fields[1] if len(fields) > 1 else "")
+                check_id_length(identifier, opened.name, number)
                 header_line, pieces = number, []
                 continue
             if identifier is None:

@@ -1,7 +1,11 @@
 """Table output: tsv, csv, json, Markdown and LaTeX (booktabs longtable), written atomically.
 
 The first row of every format is the header; tsv and csv carry their metadata in a sidecar
-``<output>.meta.json``; numbers are written with :data:`FLOAT_DIGITS` decimals.
+``<output>.meta.json``, written together with the table (:func:`~globcons.io.atomic.atomic_batch`).
+Numbers (:func:`format_number`) are written with :data:`FLOAT_DIGITS` decimals, and small ones with
+:data:`SIGNIFICANT_DIGITS` significant digits (a p-value of 1e-20 never reads 0.0000). tsv cells are
+written as they are (no quoting, no escapes; tabs and line ends inside a cell become spaces); csv cells
+that a spreadsheet would run as a formula are neutralised (:func:`neutralise_formula`).
 """
 
 from __future__ import annotations
@@ -10,6 +14,7 @@ import csv
 import json
 import math
 import os
+import re
 from collections.abc import Iterable, Mapping
 from pathlib import Path
 
@@ -17,12 +22,23 @@ import numpy as np
 import pandas as pd
 
 from globcons.errors import OptionError
-from globcons.io.atomic import atomic_output, check_not_input
+from globcons.io.atomic import atomic_batch, atomic_output, check_not_input
 from globcons.io.formats import TABLE_FORMATS, table_format_for
 
-__all__ = ["FLOAT_DIGITS", "format_table", "write_table", "text_cell", "metadata_path", "write_metadata"]
+__all__ = ["FLOAT_DIGITS", "SIGNIFICANT_DIGITS", "FIXED_MIN", "FORMULA_STARTS", "format_number", "neutralise_formula",
+           "format_table", "write_table", "text_cell", "metadata_path", "write_metadata"]
 
+#: Decimals of numbers written in fixed notation.
 FLOAT_DIGITS = 4
+#: Significant digits of small numbers (general format: ``0.0021``, ``1.234e-05``, ``8.1e-53``).
+SIGNIFICANT_DIGITS = 4
+#: Numbers smaller than this in absolute value (and not 0) are written with significant digits.
+FIXED_MIN = 0.01
+#: Significant digits JSON keeps of numbers below :data:`FIXED_MIN` (larger ones keep 6 decimals).
+_JSON_DIGITS = 6
+#: First characters that make a spreadsheet read a cell as a formula (OWASP "CSV injection"; common practice).
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+_NUMBER = re.compile(r"[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?%?")
 
 
 
@@ -42,11 +58,39 @@ def text_cell(value: object) -> str:
     if isinstance(value, (bool, np.bool_)):
         return "yes" if value else "no"
     if isinstance(value, (float, np.floating)):
-        if math.isnan(value):
-            return ""
-        text = f"{value:.{FLOAT_DIGITS}f}"
-        return "0.0000" if text == "-0.0000" else text
+        return "" if math.isnan(value) else format_number(float(value))
     return str(value)
+
+
+def format_number(value: float) -> str:
+    """A number as tables write it: :data:`FLOAT_DIGITS` decimals, or :data:`SIGNIFICANT_DIGITS` significant
+    digits below :data:`FIXED_MIN`.
+
+    Examples
+    --------
+    >>> [format_number(v) for v in (0.5, 0.01234, 0.0021, 1e-20, 8.1e-53, -0.0)]
+    ['0.5000', '0.0123', '0.0021', '1e-20', '8.1e-53', '0.0000']
+    """
+    if value != 0 and abs(value) < FIXED_MIN:
+        return f"{value:.{SIGNIFICANT_DIGITS}g}"
+    text = f"{value:.{FLOAT_DIGITS}f}"
+    return text[1:] if text.startswith("-") and not text.strip("-0.") else text
+
+
+def neutralise_formula(text: str) -> str:
+    """A csv cell a spreadsheet would run as a formula, prefixed with a single quote (shown as text).
+
+    Cells starting with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return are neutralised, except
+    numbers (``-0.5``) and a lone ``-`` (how tables say "not covered").
+
+    Examples
+    --------
+    >>> [neutralise_formula(t) for t in ("=HYPERLINK(1)", "@SUM(A1)", "-", "-0.5", "KBM-1")]
+    ["'=HYPERLINK(1)", "'@SUM(A1)", '-', '-0.5', 'KBM-1']
+    """
+    if text.startswith(FORMULA_STARTS) and text != "-" and not _NUMBER.fullmatch(text):
+        return "'" + text
+    return text
 
 
 def _text_rows(table: pd.DataFrame) -> list[list[str]]:
@@ -62,7 +106,10 @@ def _json_cell(value: object) -> object:
     if isinstance(value, (int, np.integer)):
         return int(value)
     if isinstance(value, (float, np.floating)):
-        return None if math.isnan(value) else round(float(value), 6)
+        if math.isnan(value):
+            return None
+        value = float(value)
+        return round(value, 6) if abs(value) >= FIXED_MIN else float(f"{value:.{_JSON_DIGITS}g}")
     return str(value)
 
 
@@ -76,23 +123,47 @@ def _md_escape(text: str) -> str:
     return text.replace("\\", "\\\\").replace("|", "\\|")
 
 
+def _number_strings(column: pd.Series) -> pd.Series | None:
+    """A float column as :func:`format_number` writes it, or None when no value needs significant digits
+    (then pandas' own float format is faster and the same)."""
+    values = column.to_numpy(dtype=float)
+    small = (values != 0) & (np.abs(values) < FIXED_MIN)
+    if not small.any():
+        return None
+    return pd.Series([format_number(v) if not math.isnan(v) else "" for v in values], index=column.index,
+                     dtype=object)
+
+
+def _tsv_cell(value: object) -> str:
+    return text_cell(value).replace("\t", " ").replace("\r\n", " ").replace("\n", " ").replace("\r", " ")
+
+
 def _delimited(table: pd.DataFrame, sep: str) -> str:
-    """tsv/csv through pandas' writer (fast on large tables), with the cell rules of :func:`text_cell`."""
+    """tsv/csv through pandas' writer (fast on large tables), with the cell rules of :func:`text_cell`.
+
+    tsv cells go out as they are (no quotes, no escapes); csv is quoted where needed (RFC 4180) and its
+    text cells are neutralised against formula injection (:func:`neutralise_formula`).
+    """
     frame = table.copy()
     for name in frame.columns:
         column = frame[name]
         if column.dtype == bool:
             frame[name] = np.where(column, "yes", "no")
         elif pd.api.types.is_float_dtype(column.dtype):
-            frame[name] = column.round(FLOAT_DIGITS) + 0.0  # no "-0.0000"
-        elif column.dtype == object:
-            frame[name] = column.map(text_cell)
+            strings = _number_strings(column)
+            frame[name] = column.round(FLOAT_DIGITS) + 0.0 if strings is None else strings  # no "-0.0000"
+        elif column.dtype == object or pd.api.types.is_string_dtype(column.dtype):
+            cells = column.map(_tsv_cell if sep == "\t" else text_cell)
+            frame[name] = cells.map(neutralise_formula) if sep == "," else cells
+    if sep == ",":
+        return frame.to_csv(index=False, float_format=f"%.{FLOAT_DIGITS}f", na_rep="", lineterminator="\n",
+                            quoting=csv.QUOTE_MINIMAL)
     return frame.to_csv(sep=sep, index=False, float_format=f"%.{FLOAT_DIGITS}f", na_rep="", lineterminator="\n",
-                        quoting=csv.QUOTE_MINIMAL if sep == "," else csv.QUOTE_NONE, escapechar="\\")
+                        quoting=csv.QUOTE_NONE, quotechar=None, escapechar=None)
 
 
 def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] | None = None,
-                 caption: str | None = None) -> str:
+                 caption: str | None = None, tex_spec: str | None = None) -> str:
     """Render a table as text.
 
     Parameters
@@ -106,6 +177,9 @@ def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] |
         closing note in md; tsv and csv carry none (see :func:`write_table`).
     caption
         Caption of the tex table.
+    tex_spec
+        Column specification of the tex table (default: ``r`` for numbers, ``l`` for text). The tex table
+        is set compactly (small type, 3pt between columns) to fit a page.
     """
     if fmt == "tsv":
         return _delimited(table, "\t")
@@ -123,16 +197,17 @@ def format_table(table: pd.DataFrame, fmt: str, metadata: Mapping[str, object] |
         note = [] if not metadata else ["", "Options: " + _md_escape(_one_line(metadata))]
         return "\n".join([header, rule, *body, *note]) + "\n"
     if fmt == "tex":
-        spec = "".join("r" if pd.api.types.is_numeric_dtype(table[c]) and table[c].dtype != bool else "l"
-                       for c in table.columns)
+        spec = tex_spec or "".join("r" if pd.api.types.is_numeric_dtype(table[c]) and table[c].dtype != bool
+                                   else "l" for c in table.columns)
         lines = [f"% {line}" for line in json.dumps(_plain(metadata or {}), indent=1).splitlines()]
-        lines += [r"% needs \usepackage{booktabs,longtable}", rf"\begin{{longtable}}{{{spec}}}"]
+        lines += [r"% needs \usepackage{booktabs,longtable,array}", r"\begingroup\small\setlength{\tabcolsep}{3pt}",
+                  rf"\begin{{longtable}}{{{spec}}}"]
         if caption:
             lines.append(rf"\caption{{{_tex_escape(caption)}}}\\")
         header = " & ".join(_tex_escape(str(c)) for c in table.columns) + r" \\"
         lines += [r"\toprule", header, r"\midrule", r"\endhead", r"\bottomrule", r"\endfoot"]
         lines += [" & ".join(_tex_escape(cell) for cell in row) + r" \\" for row in _text_rows(table)]
-        lines.append(r"\end{longtable}")
+        lines += [r"\end{longtable}", r"\endgroup"]
         return "\n".join(lines) + "\n"
     raise OptionError(f"unknown table format {fmt!r}; choose one of {', '.join(TABLE_FORMATS)}")
 
@@ -157,7 +232,7 @@ def _one_line(metadata: Mapping[str, object]) -> str:
 
 def write_table(table: pd.DataFrame, path: str | os.PathLike | None, fmt: str | None = None,
                 metadata: Mapping[str, object] | None = None, inputs: Iterable = (),
-                caption: str | None = None, sidecar: bool = True) -> list[str]:
+                caption: str | None = None, sidecar: bool = True, tex_spec: str | None = None) -> list[str]:
     """Write a table atomically; a tsv or csv file also gets its metadata in ``<path>.meta.json``.
 
     Returns
@@ -166,19 +241,20 @@ def write_table(table: pd.DataFrame, path: str | os.PathLike | None, fmt: str | 
         The files written (empty when writing to standard output).
     """
     fmt = table_format_for(path, fmt)
-    text = format_table(table, fmt, metadata, caption)
+    text = format_table(table, fmt, metadata, caption, tex_spec)
     inputs = list(inputs)
     written = []
     regular = path is not None and str(path) != "-" and not (Path(path).exists() and not Path(path).is_file())
     meta_path = Path(f"{path}.meta.json") if (regular and sidecar and metadata and fmt in ("tsv", "csv")) else None
     if meta_path is not None:
         check_not_input(meta_path, inputs)
-    with atomic_output(path, inputs) as stream:
-        stream.write(text)
-    if regular:
-        written.append(str(path))
-    if meta_path is not None:
-        written.append(write_metadata(meta_path, metadata, inputs))
+    with atomic_batch():  # the table and its metadata land together or not at all
+        with atomic_output(path, inputs) as stream:
+            stream.write(text)
+        if regular:
+            written.append(str(path))
+        if meta_path is not None:
+            written.append(write_metadata(meta_path, metadata, inputs))
     return written
 
 

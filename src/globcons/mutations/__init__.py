@@ -17,6 +17,8 @@ _EXPORTS = {
     "rank_sites": "globcons.mutations.judge",
     "CHECK_COLUMNS": "globcons.mutations.judge",
     "PLAN_COLUMNS": "globcons.mutations.judge",
+    "StructureContext": "globcons.mutations.context",
+    "STRUCTURE_COLUMNS": "globcons.mutations.context",
 }
 __all__ = list(_EXPORTS)
 __getattr__, __dir__ = lazy_exports(__name__, _EXPORTS)

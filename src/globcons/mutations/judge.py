@@ -26,6 +26,17 @@ where entropy_norm and gap_fraction are the family column's, and sd_hydropathy i
 deviation of the Kyte-Doolittle hydropathy of the family's residues there (how widely the family already
 varies the property). Positions outside the family's columns score 0.75 (loops the family lacks).
 
+With a structure (a :class:`globcons.mutations.context.StructureContext`), every mapped position also
+gets its burial, heme contact and interfaces as reasons, and
+
+    tolerance += 0.5 * min(1, rsa) - 0.5 * (core) - 0.5 * (heme contact) - 0.5 * (interface)
+
+A ``core``, heme-contact or interface position is never ``open``: it is at least ``guarded``, with a
+``core:``, ``heme contact:`` or ``interface: chain C`` reason naming why (and the partner chain). Within
+a verdict tier and column class, surface positions rank before boundary ones, then positions the structure
+does not cover, then core ones. ``surface_only`` keeps only surface positions, ``exclude_interfaces``
+drops every position touching another chain.
+
 Every row shows the position as given, the mature position and the HGVS name (see
 :mod:`globcons.mutations.target` for the numberings). These are family-conservation predictions for
 research: see :data:`globcons.core.vocabulary.CAUTION`.
@@ -33,14 +44,17 @@ research: see :data:`globcons.core.vocabulary.CAUTION`.
 
 from __future__ import annotations
 
+import difflib
 from collections.abc import Iterable
 
 import numpy as np
 import pandas as pd
 
+from globcons.align.frame_columns import reference_alignment
+from globcons.align.significance import GLOBIN_EVALUE
 from globcons.analysis.family import Family
 from globcons.core.alphabet import N_STANDARD, RESIDUE_LETTERS
-from globcons.core.labels import HELICES, is_helix, place_of, segment_of
+from globcons.core.labels import FRAME_ORDER, HELICES, is_helix, place_of, segment_of
 from globcons.core.matrices import matrix_score
 from globcons.core.properties import (
     CORE_HYDROPHOBICITY,
@@ -52,15 +66,17 @@ from globcons.core.properties import (
 )
 from globcons.core.vocabulary import VERDICTS
 from globcons.errors import OptionError
-from globcons.frame.functional_sites import Site, sites_at
+from globcons.frame.functional_sites import Site, sites, sites_at
+from globcons.mutations.context import BURIAL_ORDER, STRUCTURE_COLUMNS, StructureContext
 from globcons.mutations.notation import Mutation, parse_mutation
-from globcons.mutations.target import Target, as_target, hgvs_cell
+from globcons.mutations.target import Target, as_target, hgvs_cell, hgvs_note
 
 __all__ = ["check", "rank_sites", "CHECK_COLUMNS", "PLAN_COLUMNS"]
 
-CHECK_COLUMNS = ("mutation", "position", "mature_position", "hgvs", "frame_label", "column", "column_class",
-                 "family_frequency", "blosum", "property_change", "verdict", "reasons")
-PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "residue", "frame_label", "column",
+CHECK_COLUMNS = ("mutation", "position", "wild_type", "new_residue", "mature_position", "hgvs", "hgvs_note",
+                 "frame_label", "column", "column_class", "family_frequency", "blosum", "property_change", "verdict",
+                 "reasons")
+PLAN_COLUMNS = ("rank", "position", "mature_position", "hgvs", "hgvs_note", "residue", "frame_label", "column",
                 "column_class", "tolerance", "verdict", "substitutions", "reasons")
 
 #: A helix residue at this place or later is past the helix's first turn (Pro is common in the first
@@ -75,16 +91,13 @@ SPREAD_SCALE = 3.0
 OFF_COLUMN_TOLERANCE = 0.75
 #: Tolerance given to the initiator Met, below any other position.
 INITIATOR_TOLERANCE = -1.0
+#: Weights of the structural terms of the tolerance (see the module notes).
+EXPOSURE_WEIGHT, CORE_PENALTY, HEME_CONTACT_PENALTY, INTERFACE_PENALTY = 0.5, 0.5, 0.5, 0.5
 #: Substitutions listed per position in ``plan``.
 SUBSTITUTIONS_SHOWN = 3
 # Within a verdict tier, columns the family varies come before conserved ones (a listed site the family
 # varies is locked, but less so than an invariant column).
 _CLASS_ORDER = {"gap-rich": 0, "variable": 0, "": 0, "conservative": 1, "invariant": 2}
-
-
-
-
-
 
 
 
@@ -133,6 +146,17 @@ def _core_reason(family: Family, column: int, new: str) -> str:
             f"({CORE_HYDROPHOBICITY[new]:+.2f})")
 
 
+def globin_reason(target: Target) -> str:
+    """``not a globin: ...`` when the target does not place significantly on the frame (E-value not below
+    :data:`~globcons.align.significance.GLOBIN_EVALUE`), else ''. Every row of such a target carries it."""
+    if target.placed.is_globin:
+        return ""
+    evalue = target.placed.evalue
+    shown = f"E-value {evalue:.2g}" if evalue == evalue else "no E-value"
+    return (f"not a globin: the target does not place significantly on the globin frame ({shown}, not below "
+            f"{GLOBIN_EVALUE:g}), so the family says nothing about it")
+
+
 def _evidence_reason(family: Family, column: int) -> str:
     """A ``low_data`` reason when the family, or the column, holds few effective sequences."""
     if family.thin:
@@ -155,11 +179,45 @@ def _column_hydropathy(family: Family, column: int) -> tuple[float, float]:
     return mean, float(np.sqrt(p @ (values - mean) ** 2))
 
 
+def _structure_terms(context: StructureContext | None, given: int) -> tuple[list[str], bool, float]:
+    """Reasons from the structure, whether they keep the position from ``open``, and the tolerance change."""
+    if context is None:
+        return [], False, 0.0
+    if not context.is_mapped(given):
+        return [f"structure: no residue of chain {context.chain} maps here"], False, 0.0
+    i = given - 1
+    rsa, burial, where = float(context.rsa[i]), str(context.burial[i]), f"{context.chain}:{context.residue[i]}"
+    reasons, closed, delta = [], False, 0.0
+    if burial == "core":
+        reasons.append(f"core: buried in the structure ({where}, relative accessibility {rsa:.2f})")
+        closed, delta = True, delta - CORE_PENALTY
+    elif burial:
+        reasons.append(f"{burial} ({where}, relative accessibility {rsa:.2f})")
+    if rsa == rsa:
+        delta += EXPOSURE_WEIGHT * min(1.0, rsa)
+    if context.heme_contact[i]:
+        reasons.append(f"heme contact: {context.heme_distance[i]:.1f} Å from the heme "
+                       f"(iron {context.iron_distance[i]:.1f} Å)")
+        closed, delta = True, delta - HEME_CONTACT_PENALTY
+    partners = context.partners[i]
+    if partners:
+        reasons.append(f"interface: chain{'s' if len(partners) > 1 else ''} {', '.join(partners)}")
+        closed, delta = True, delta - INTERFACE_PENALTY
+    return reasons, closed, delta
+
+
+def _check_context(target: Target, context: StructureContext | None) -> None:
+    if context is not None and len(context.residue) != len(target.sequence):
+        raise ValueError(f"the structure context has {len(context.residue)} residues, the target "
+                         f"{len(target.sequence)}; build it for this target")
+
+
 def _numbering_cells(target: Target, given: int, new: str | None = None) -> tuple[int | None, str]:
     return target.mature_position(given), hgvs_cell(target, given, new)
 
 
-def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]:
+def _assess(target: Target, given: int, mutation: Mutation,
+            context: StructureContext | None = None) -> dict[str, object]:
     family = target.family
     wild, new = target.sequence[given - 1], mutation.new
     label = target.placed.label_at(given)
@@ -188,13 +246,20 @@ def _assess(target: Target, given: int, mutation: Mutation) -> dict[str, object]
     if helix and new in "PG" and wild != new:
         reasons.append(f"{'Pro' if new == 'P' else 'Gly'} inside helix {helix} ({label}), past its first turn")
         verdict = "guarded" if verdict == "open" else verdict
+    structural, closed, _ = _structure_terms(context, given)
+    reasons += structural
+    if closed and verdict == "open":
+        verdict = "guarded"
     score = matrix_score(family.matrix, wild, new)
     if score == score and score < 0:
         reasons.append(f"substitution scores {score:+.0f} in {family.matrix}")
+    reasons += [r for r in (globin_reason(target),) if r]
     return {
-        "mutation": mutation.text, "position": given, "mature_position": mature, "hgvs": hgvs,
+        "mutation": mutation.text, "position": given, "wild_type": wild, "new_residue": new,
+        "mature_position": mature, "hgvs": hgvs, "hgvs_note": "" if hgvs else hgvs_note(target),
         "frame_label": label, "column": column + 1 if column >= 0 else None, "column_class": column_class,
-        "family_frequency": frequency, "blosum": score, "property_change": property_change(wild, new).text(),
+        **(context.cells(given) if context is not None else {}), "family_frequency": frequency, "blosum": score,
+        "property_change": property_change(wild, new).text(),
         "verdict": verdict, "reasons": "; ".join(reasons),
     }
 
@@ -212,7 +277,7 @@ def _numbering_hint(target: Target, mutation: Mutation) -> str:
 
 
 def check(target, mutations: Iterable[str | Mutation], family: Family | None = None,
-          numbering: str = "given") -> pd.DataFrame:
+          numbering: str = "given", context: StructureContext | None = None) -> pd.DataFrame:
     """Judge mutations of a target (see the module notes).
 
     Parameters
@@ -225,11 +290,16 @@ def check(target, mutations: Iterable[str | Mutation], family: Family | None = N
         As for :func:`prepare_target`.
     numbering
         ``"given"`` or ``"mature"``.
+    context
+        What a structure says about each target residue
+        (:func:`globcons.structure.context.target_context`): adds :data:`STRUCTURE_COLUMNS` and the
+        structural reasons; core, heme-contact and interface positions are never ``open``.
 
     Returns
     -------
     pandas.DataFrame
-        Columns :data:`CHECK_COLUMNS`, one row per mutation.
+        Columns :data:`CHECK_COLUMNS` (with :data:`STRUCTURE_COLUMNS` after ``column_class`` when a
+        ``context`` is given), one row per mutation.
 
     Raises
     ------
@@ -246,6 +316,7 @@ def check(target, mutations: Iterable[str | Mutation], family: Family | None = N
     [['E6V', 'A3', 'open'], ['H92Y', 'F8', 'locked']]
     """
     target = as_target(target, family, numbering)
+    _check_context(target, context)
     rows = []
     for item in mutations:
         mutation = item if isinstance(item, Mutation) else parse_mutation(item)
@@ -255,11 +326,19 @@ def check(target, mutations: Iterable[str | Mutation], family: Family | None = N
             raise OptionError(f"{mutation.text}: the target has {there} at position {given} (as given"
                               + (f"; mature {target.mature_position(given)}" if target.mature_position(given) else "")
                               + f"), not {mutation.wild}" + _numbering_hint(target, mutation))
-        rows.append(_assess(target, given, mutation))
-    table = pd.DataFrame(rows, columns=list(CHECK_COLUMNS))
+        rows.append(_assess(target, given, mutation, context))
+    table = pd.DataFrame(rows, columns=_with_structure(CHECK_COLUMNS, "column_class", context))
     table["mature_position"] = pd.array(table["mature_position"], dtype="Int64")
     table["column"] = pd.array(table["column"], dtype="Int64")
     return table
+
+
+def _with_structure(columns: tuple[str, ...], after: str, context: StructureContext | None) -> list[str]:
+    """The table's columns, with :data:`STRUCTURE_COLUMNS` after ``after`` when there is a structure."""
+    if context is None:
+        return list(columns)
+    at = columns.index(after) + 1
+    return [*columns[:at], *STRUCTURE_COLUMNS, *columns[at:]]
 
 
 def _substitutions(family: Family, column: int, wild: str, limit: int = SUBSTITUTIONS_SHOWN) -> str:
@@ -273,15 +352,19 @@ def _substitutions(family: Family, column: int, wild: str, limit: int = SUBSTITU
     return ", ".join(parts)
 
 
-def _position_row(target: Target, given: int, site_list: list[Site]) -> dict[str, object]:
+def _position_row(target: Target, given: int, site_list: list[Site],
+                  context: StructureContext | None = None) -> dict[str, object]:
     """One row of the plan: the tolerance, verdict and reasons of the residue at ``given``."""
     family, wild = target.family, target.sequence[given - 1]
     label = target.placed.label_at(given)
     mature, hgvs = _numbering_cells(target, given)
+    cells = context.cells(given) if context is not None else {}
     if given == 1 and target.starts_with_met:
-        return {"position": 1, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": "",
-                "column": None, "column_class": "", "tolerance": INITIATOR_TOLERANCE, "verdict": "locked",
-                "substitutions": "", "reasons": "initiator Met: changing it loses the start of translation"}
+        return {"position": 1, "mature_position": mature, "hgvs": hgvs, "hgvs_note": "", "residue": wild,
+                "frame_label": "",
+                "column": None, "column_class": "", **cells, "tolerance": INITIATOR_TOLERANCE, "verdict": "locked",
+                "substitutions": "", "reasons": "; ".join(r for r in (
+                    "initiator Met: changing it loses the start of translation", globin_reason(target)) if r)}
     column = int(target.columns[given - 1])
     reasons = [f"{label}: {site.role}" for site in site_list]
     verdict = "locked" if site_list else "open"
@@ -307,14 +390,39 @@ def _position_row(target: Target, given: int, site_list: list[Site]) -> dict[str
         tolerance -= HELIX_PG_PENALTY
         reasons.append(f"{'Pro' if wild == 'P' else 'Gly'} inside helix {helix} ({label}): structural")
         verdict = "guarded" if verdict == "open" else verdict
-    return {"position": given, "mature_position": mature, "hgvs": hgvs, "residue": wild, "frame_label": label,
-            "column": column + 1 if column >= 0 else None, "column_class": cls, "tolerance": round(tolerance, 6),
+    structural, closed, delta = _structure_terms(context, given)
+    reasons += structural
+    tolerance += delta
+    if closed and verdict == "open":
+        verdict = "guarded"
+    reasons += [r for r in (globin_reason(target),) if r]
+    return {"position": given, "mature_position": mature, "hgvs": hgvs, "hgvs_note": "" if hgvs else hgvs_note(target),
+            "residue": wild, "frame_label": label,
+            "column": column + 1 if column >= 0 else None, "column_class": cls, **cells,
+            "tolerance": round(tolerance, 6),
             "verdict": verdict, "substitutions": substitutions, "reasons": "; ".join(reasons)}
+
+
+def _check_names(labels: set[str], kinds: set[str]) -> None:
+    """Refuse excluded labels the frame does not have and site kinds no site has, naming the valid ones."""
+    known_labels = {label for label in reference_alignment().own_labels.ravel() if label}
+    unknown = sorted(labels - known_labels, key=str)
+    if unknown:
+        close = difflib.get_close_matches(unknown[0].upper(), sorted(known_labels), n=1)
+        hint = f" (did you mean {close[0]}?)" if close else ""
+        raise OptionError(f"--exclude-labels: {unknown[0]!r} is not a frame label{hint}; labels are upper case, a "
+                          f"segment ({', '.join(FRAME_ORDER)}) then a place, e.g. A3, F8, FG3")
+    known_kinds = sorted({site.kind for site in sites() if site.kind})
+    unknown = sorted(kinds - set(known_kinds))
+    if unknown:
+        raise OptionError(f"--exclude-kinds: unknown site kind {unknown[0]!r}; the kinds are {', '.join(known_kinds)}")
 
 
 def rank_sites(target, family: Family | None = None, numbering: str = "given",
                exclude_labels: Iterable[str] = (), exclude_helices: Iterable[str] = (),
-               exclude_kinds: Iterable[str] = (), top: int | None = None) -> pd.DataFrame:
+               exclude_kinds: Iterable[str] = (), top: int | None = None,
+               context: StructureContext | None = None, surface_only: bool = False,
+               exclude_interfaces: bool = False) -> pd.DataFrame:
     """Every position of the target ranked for mutation, most tolerant first (see the module notes).
 
     Parameters
@@ -323,17 +431,35 @@ def rank_sites(target, family: Family | None = None, numbering: str = "given",
         Leave out these frame labels, helices (``"E"``) or site kinds (``"heme-ligand"``).
     top
         Keep the first ``top`` rows.
+    context
+        What a structure says about each target residue
+        (:func:`globcons.structure.context.target_context`).
+    surface_only
+        Keep only positions the structure calls ``surface`` (needs ``context``).
+    exclude_interfaces
+        Leave out positions touching another chain of the structure (needs ``context``).
 
     Returns
     -------
     pandas.DataFrame
-        Columns :data:`PLAN_COLUMNS`.
+        Columns :data:`PLAN_COLUMNS` (with :data:`STRUCTURE_COLUMNS` after ``column_class`` when a
+        ``context`` is given).
+
+    Raises
+    ------
+    OptionError
+        An unknown helix, or ``surface_only`` / ``exclude_interfaces`` without a structure.
     """
     target = as_target(target, family, numbering)
+    _check_context(target, context)
+    if context is None and (surface_only or exclude_interfaces):
+        raise OptionError(f"{'--surface-only' if surface_only else '--exclude-interfaces'} needs a structure "
+                          "(--structure FILE)")
     labels_out, helices_out, kinds_out = set(exclude_labels), set(exclude_helices), set(exclude_kinds)
     unknown_helices = helices_out - set(HELICES)
     if unknown_helices:
         raise OptionError(f"unknown helix {sorted(unknown_helices)[0]!r}; helices are {', '.join(HELICES)}")
+    _check_names(labels_out, kinds_out)
     rows = []
     for given in range(1, len(target.sequence) + 1):
         label = target.placed.label_at(given)
@@ -342,14 +468,18 @@ def rank_sites(target, family: Family | None = None, numbering: str = "given",
         site_list = _site_reasons(target, label)
         if any(site.kind in kinds_out for site in site_list):
             continue
-        rows.append(_position_row(target, given, site_list))
-    rows.sort(key=lambda r: (_TIER[r["verdict"]], _CLASS_ORDER.get(r["column_class"], 0), -r["tolerance"],
-                             r["position"]))
+        if context is not None and ((surface_only and context.burial[given - 1] != "surface")
+                                    or (exclude_interfaces and context.partners[given - 1])):
+            continue
+        rows.append(_position_row(target, given, site_list, context))
+    rows.sort(key=lambda r: (_TIER[r["verdict"]], _CLASS_ORDER.get(r["column_class"], 0),
+                             BURIAL_ORDER.get(r.get("burial", ""), 0) if context is not None else 0,
+                             -r["tolerance"], r["position"]))
     for rank, row in enumerate(rows, start=1):
         row["rank"] = rank
     if top is not None:
         rows = rows[:top]
-    table = pd.DataFrame(rows, columns=list(PLAN_COLUMNS))
+    table = pd.DataFrame(rows, columns=_with_structure(PLAN_COLUMNS, "column_class", context))
     table["mature_position"] = pd.array(table["mature_position"], dtype="Int64")
     table["column"] = pd.array(table["column"], dtype="Int64")
     return table

@@ -12,18 +12,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from globcons.align.dp import align
 from globcons.align.placement import PlacedSequence, place
-from globcons.align.scoring_profile import query_codes
 from globcons.analysis.family import Family, frame_family
 from globcons.core.alphabet import RESIDUE_LETTERS, THREE_LETTER
 from globcons.errors import OptionError
 from globcons.mutations.notation import Mutation
 
-__all__ = ["NUMBERINGS", "Target", "prepare_target", "as_target", "hgvs_cell"]
+__all__ = ["NUMBERINGS", "HGVS_UNKNOWN", "Target", "prepare_target", "as_target", "hgvs_cell", "hgvs_note"]
 
 #: How plain mutation names count the target.
 NUMBERINGS = ("given", "mature")
+#: Why a target's HGVS names are blank: HGVS counts from the initiator Met, and this target's Met status is unknown.
+HGVS_UNKNOWN = ("HGVS numbering unknown: the target does not start with Met, so it is not known where the initiator "
+                "Met stood; if the Met was removed (a mature chain), use --numbering mature")
 #: Letters a target may hold: residues and the unknowns (X and the ambiguity codes).
 _TARGET_LETTERS = RESIDUE_LETTERS + "XBZJ"
 
@@ -132,8 +133,7 @@ def prepare_target(sequence: str, id: str = "target", family: Family | None = No
     elif family.profile is None:
         columns = placed.column_of_residue
     else:
-        codes = query_codes(sequence)
-        columns = align(family.profile.scores, family.profile.gaps, [codes])[0].column_of_residue
+        columns = family.columns_of(sequence)
     return Target(id, sequence, placed, columns, family, numbering)
 
 
@@ -155,3 +155,18 @@ def hgvs_cell(target: Target, given: int, new: str | None = None) -> str:
     wild = target.sequence[given - 1]
     name = f"p.{THREE_LETTER.get(wild, 'Xaa')}{number}"
     return name + THREE_LETTER.get(new, new) if new else name
+
+
+def hgvs_note(target: Target) -> str:
+    """Why the target's ``hgvs`` cells are blank (:data:`HGVS_UNKNOWN`), or '' when its HGVS numbering is known.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace
+    >>> hgvs_note(SimpleNamespace(starts_with_met=False, numbering="given"))[:23]
+    'HGVS numbering unknown:'
+    >>> hgvs_note(SimpleNamespace(starts_with_met=False, numbering="mature"))
+    ''
+    """
+    known = target.starts_with_met or target.numbering == "mature"
+    return "" if known else HGVS_UNKNOWN

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from globcons.core.alignment import Alignment
-from globcons.core.weights import NEFF_IDENTITY, neighbour_counts, row_keys
+from globcons.core.neighbours import NEFF_IDENTITY, neighbour_counts, row_keys
 from globcons.phylo.building import model_distances, neighbour_joining_tree
 from globcons.phylo.fit import BRANCH_ITERATIONS, FitResult, fit_tree
 from globcons.phylo.gamma import DEFAULT_CATEGORIES, discrete_gamma_rates
@@ -138,8 +138,8 @@ def representative_rows(codes: np.ndarray, max_rows: int, identity: float = NEFF
 
     A weighted sample without replacement (Efraimidis & Spirakis 2006 Inf Process Lett 97:181): row ``i``
     gets the key ``-log(u_i) / w_i``, ``w_i = 1 / m_i`` its cluster weight at ``identity``
-    (:func:`globcons.core.weights.neighbour_counts`) and ``u_i`` a fixed pseudo-random number of its index
-    (:func:`globcons.core.weights.row_keys`); the rows of smallest key are kept. The same file always
+    (:func:`globcons.core.neighbours.neighbour_counts`) and ``u_i`` a fixed pseudo-random number of its index
+    (:func:`globcons.core.neighbours.row_keys`); the rows of smallest key are kept. The same file always
     gives the same subset. Returns sorted indices.
     """
     n_rows = codes.shape[0]

@@ -10,10 +10,10 @@ import pandas as pd
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
-from globcons.analysis.columns import SCORE_COLUMNS, SHOWN_SCORES
+from globcons.analysis.columns import SCORE_COLUMNS, SHOWN_SCORES, class_counts
 from globcons.errors import OptionError
 from globcons.plots.axes import draw_helix_track, position_axis, shade_helices, spread_labels
-from globcons.plots.output import figure_format, finish_figure
+from globcons.plots.output import figure_format, finish_figure, plain_text
 from globcons.plots.palette import CLASS_COLOURS, OKABE_ITO, tinted
 
 __all__ = ["PROFILE_SCORES", "draw_profile"]
@@ -100,11 +100,16 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
     draw_helix_track(helix_ax, labels)
     ax.plot(x, values, color=tinted("score line"), linewidth=0.8, zorder=1)
     classes = shown["class"].astype(str).to_numpy()
+    counts = class_counts(table)  # the summary line's counts: every column, drawn or not
+    handles, names = [], []
     for name, colour in CLASS_COLOURS.items():
         mask = classes == name
         if mask.any():
-            ax.scatter(x[mask], values[mask], s=16, color=colour, edgecolors="none", zorder=3,
-                       label=f"{name} ({int(mask.sum())})")
+            ax.scatter(x[mask], values[mask], s=16, color=colour, edgecolors="none", zorder=3)
+        if counts.get(name, 0):
+            handles.append(Line2D([], [], marker="o", linestyle="none", markerfacecolor=colour,
+                                  markeredgecolor="none", markersize=5))
+            names.append(f"{name} ({counts[name]})")
 
     site_positions = _mark_sites(ax, sites_ax, shown, labels, values, width)
 
@@ -115,15 +120,18 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
     ax.set_ylabel(axis_label, fontsize=9)
     position_axis(ax, shown, labels, bool(labelled.any()))
     ax.spines[["top", "right"]].set_visible(False)
-    handles, names = ax.get_legend_handles_labels()
     if site_positions.size:
         handles.append(Line2D([], [], marker="o", linestyle="none", markerfacecolor="none",
                               markeredgecolor=OKABE_ITO["black"], markersize=7))
         names.append("functional site")
     ax.legend(handles, names, loc="upper center", bbox_to_anchor=(0.5, -0.22), ncol=len(handles), fontsize=8,
               frameon=False, handletextpad=0.3, columnspacing=1.2)
+    hidden = len(table) - len(shown)
+    if hidden:  # the legend counts every column; say which ones the x axis leaves out
+        ax.text(1.0, -0.34, f"{hidden} column{'s' if hidden > 1 else ''} without a frame label (insertions) not "
+                "drawn", transform=ax.transAxes, ha="right", va="top", fontsize=7, color=OKABE_ITO["black"])
     source = table.attrs.get("input")
     heading = title if title is not None else (f"{os.path.basename(str(source))}: {score}" if source else score)
-    sites_ax.set_title(heading, fontsize=10, loc="left")
+    sites_ax.set_title(plain_text(heading), fontsize=10, loc="left")
     return finish_figure(fig, path, inputs)
 

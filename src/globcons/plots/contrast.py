@@ -19,7 +19,7 @@ from globcons.core.vocabulary import CONTRAST_CLASSES
 from globcons.core.weights import compute_weights
 from globcons.plots.axes import draw_helix_track, position_axis, shade_helices
 from globcons.plots.glyphs import stack_glyphs
-from globcons.plots.output import figure_format, finish_figure
+from globcons.plots.output import figure_format, finish_figure, plain_text
 from globcons.plots.palette import CONTRAST_COLOURS, OKABE_ITO, tinted
 
 __all__ = ["draw_contrast"]
@@ -41,7 +41,7 @@ def _draw_group_logos(fig: Figure, grid, alignment: Alignment, groups, meta: dic
         logo_ax.set_xlim(-0.6, len(columns) - 0.4)
         logo_ax.set_ylim(0.0, LOG2_20)
         logo_ax.set_yticks([0, 2, 4])
-        logo_ax.set_ylabel(f"{group}\n(bits)", fontsize=8)
+        logo_ax.set_ylabel(f"{plain_text(group)}\n(bits)", fontsize=8)
         logo_ax.set_xticks(range(len(columns)), ticks if k == len(kept) - 1 else [""] * len(columns), fontsize=8)
         logo_ax.spines[["top", "right"]].set_visible(False)
     logo_ax.set_xlabel("top positions by contrast, in column order", fontsize=9)
@@ -120,6 +120,6 @@ def draw_contrast(table: pd.DataFrame, alignment: Alignment, groups: Sequence[st
     source = meta.get("input")
     heading = title if title is not None else (f"{os.path.basename(str(source))}: group contrast" if source
                                                else "group contrast")
-    helix_ax.set_title(heading, fontsize=10, loc="left")
+    helix_ax.set_title(plain_text(heading), fontsize=10, loc="left")
     return finish_figure(fig, path, inputs)
 

@@ -16,7 +16,7 @@ from globcons.core.labels import is_label
 from globcons.core.vocabulary import DEVIATIONS
 from globcons.errors import OptionError
 from globcons.plots.axes import MAX_LABELLED_TICKS, draw_helix_track, frame_ticks
-from globcons.plots.output import figure_format, finish_figure
+from globcons.plots.output import figure_format, finish_figure, plain_text
 from globcons.plots.palette import ABSENT_COLOUR, CLASS_COLOURS, DEVIATION_COLOURS
 
 __all__ = ["DEVIATION_ORDER", "DepartureMatrix", "departure_matrix", "draw_departure_heatmap"]
@@ -143,7 +143,7 @@ def draw_departure_heatmap(residues: pd.DataFrame, path: str | os.PathLike | Non
     step = 1 if n_rows <= MAX_NAMED_ROWS else int(math.ceil(n_rows / MAX_NAMED_ROWS))
     rows = list(range(0, n_rows, step))
     font = 7.0 if n_rows <= 60 else 6.5  # rows are 0.11 in (about 8 pt) apart, labelled or not
-    ax.set_yticks(rows, [data.ids[i] for i in rows], fontsize=font)
+    ax.set_yticks(rows, [plain_text(data.ids[i]) for i in rows], fontsize=font)
     if any(labelled):
         ticks = frame_ticks(labelled) if n_cols > MAX_LABELLED_TICKS else list(range(n_cols))
         ax.set_xlabel("frame position", fontsize=9)
@@ -160,6 +160,6 @@ def draw_departure_heatmap(residues: pd.DataFrame, path: str | os.PathLike | Non
     handles.append(Patch(facecolor=ABSENT_COLOUR, edgecolor=edge, linewidth=0.4, label="no residue"))
     fig.legend(handles=handles, loc="outside right upper", fontsize=8, frameon=False)
     if title:
-        helix_ax.set_title(title, fontsize=10, loc="left")
+        helix_ax.set_title(plain_text(title), fontsize=10, loc="left")
     return finish_figure(fig, path, inputs)
 

@@ -25,10 +25,15 @@ from globcons.core.scores import LOG2_20, gap_fraction, information_bits
 from globcons.core.weights import compute_weights
 from globcons.errors import OptionError
 from globcons.plots.glyphs import stack_glyphs
-from globcons.plots.output import figure_format, finish_figure
+from globcons.plots.output import figure_format, finish_figure, plain_text
 from globcons.plots.palette import CLASS_COLOURS, GAP_RICH_COLOUR, GROUP_COLOURS
 
-__all__ = ["information_matrix", "LogoData", "logo_matrix", "column_range", "draw_logo"]
+__all__ = ["information_matrix", "LogoData", "logo_matrix", "column_range", "draw_logo", "LOGO_GEOMETRY"]
+
+#: Layout of every logo, in inches: a fixed plot height and width per column, fixed margins (ticks, title,
+#: legend), so that any two logos share one y-scale (inches per bit), whatever their number of columns.
+LOGO_GEOMETRY: dict[str, float] = {"axes_height": 2.0, "column_width": 0.3, "min_axes_width": 2.4, "left": 0.7,
+                                   "right": 1.8, "bottom": 0.85, "top": 0.35}
 
 
 def information_matrix(counts: np.ndarray, small_sample: bool = True) -> pd.DataFrame:
@@ -209,8 +214,7 @@ def draw_logo(alignment: Alignment, columns: Sequence[int], path: str | os.PathL
         raise ValueError(f"{len(labels)} labels for {k} columns")
     ticks = [str(label) if label else str(column) for label, column in
              zip(labels if labels is not None else [""] * k, data.matrix.index, strict=True)]
-    fig = Figure(figsize=(max(5.0, 1.9 + 0.3 * k), 3.2), layout="constrained")
-    ax = fig.add_subplot()
+    fig, ax = _logo_axes(k)
     stack_glyphs(ax, data.matrix.to_numpy(), list(data.matrix.columns))
     for position in np.flatnonzero(data.gap_rich):
         ax.axvspan(position - 0.45, position + 0.45, facecolor=GAP_RICH_COLOUR, edgecolor=CLASS_COLOURS["gap-rich"],
@@ -224,12 +228,25 @@ def draw_logo(alignment: Alignment, columns: Sequence[int], path: str | os.PathL
     ax.set_xlabel("frame position" if labels is not None and any(labels) else "alignment column")
     ax.spines[["top", "right"]].set_visible(False)
     if title:
-        ax.set_title(title, fontsize=10, loc="left")
+        ax.set_title(plain_text(title), fontsize=10, loc="left")
     handles = [Patch(facecolor=colour, label=f"{name} ({letters})")
                for name, (letters, colour) in GROUP_COLOURS.items()]
     if data.gap_rich.any():
         handles.append(Patch(facecolor=GAP_RICH_COLOUR, edgecolor=CLASS_COLOURS["gap-rich"], hatch="///",
                              linewidth=0.0, label=f"gap-rich (> {max_gaps:.0%} gaps)"))
-    fig.legend(handles=handles, loc="outside right upper", fontsize=7, frameon=False, handlelength=1.0)
+    box = ax.get_position()
+    fig.legend(handles=handles, loc="upper left", bbox_to_anchor=(box.x1 + 0.1 / fig.get_figwidth(), box.y1),
+               fontsize=7, frameon=False, handlelength=1.0)
     return finish_figure(fig, path, inputs)
+
+
+def _logo_axes(k: int):
+    """A figure and its one axes laid out by :data:`LOGO_GEOMETRY` for ``k`` columns."""
+    g = LOGO_GEOMETRY
+    axes_width = max(g["min_axes_width"], g["column_width"] * k)
+    width = g["left"] + axes_width + g["right"]
+    height = g["bottom"] + g["axes_height"] + g["top"]
+    fig = Figure(figsize=(width, height))
+    ax = fig.add_axes((g["left"] / width, g["bottom"] / height, axes_width / width, g["axes_height"] / height))
+    return fig, ax
 

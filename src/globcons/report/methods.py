@@ -6,8 +6,9 @@ from pathlib import Path
 
 import pandas as pd
 
-__all__ = ["methods_text", "citations", "contrast_methods_text", "rates_methods_text", "CONTRAST_CITATIONS",
-           "PERMUTATION_CITATION", "RATES_CITATIONS"]
+__all__ = ["methods_text", "citations", "contrast_methods_text", "rates_methods_text", "reference_list",
+           "structure_methods_text", "CONTRAST_CITATIONS", "PERMUTATION_CITATION", "RATES_CITATIONS",
+           "STRUCTURE_CITATIONS"]
 
 
 def citations(meta: dict) -> list[str]:
@@ -25,6 +26,9 @@ def citations(meta: dict) -> list[str]:
         cited.append("Henikoff S, Henikoff JG (1994) Position-based sequence weights. J Mol Biol 243:574-578.")
     cited.append("Morcos F et al. (2011) Direct-coupling analysis of residue coevolution captures native "
                  "contacts across many protein families. PNAS 108:E1293-E1301.")
+    if meta.get("effective_sequences_error"):
+        cited.append("Cochran WG (1977) Sampling Techniques, 3rd edn. Wiley, New York (simple random sampling, "
+                     "chapter 2: the estimated effective number and its standard error).")
     cited.append("Gelman A, Carlin JB, Stern HS, Dunson DB, Vehtari A, Rubin DB (2013) Bayesian Data Analysis, "
                  "3rd edn. CRC Press (the Dirichlet-multinomial update, chapter 3).")
     if meta.get("class_counts", {}).get("gap-rich", 0):
@@ -72,13 +76,16 @@ def methods_text(table: pd.DataFrame) -> str:
     }.get(frame.get("source"), "Columns were not tied to the globin helix frame.")
     method = meta.get("effective_sequences_method", "")
     sampled = "sampled" in method
+    error = meta.get("effective_sequences_error")
     text = (
         f"Conservation of the {meta['sequences']} sequences and {meta['columns']} columns of "
         f"{Path(meta['input']).name} was computed with globcons {meta['version']}. Residue frequencies used "
         f"{weighting}. The effective number of sequences counted sequence clusters: each sequence weighed one "
         f"over the number of sequences at least {meta['identity']:.0%} identical to it over all columns (Morcos "
         "et al. 2011"
-        + (", estimated by comparing every sequence with a fixed sample of the others" if sampled else "")
+        + ((f", estimated from {meta.get('neff_sample', 0):g} randomly sampled sequences each compared with all "
+            f"(standard error {error:.1f}; Cochran 1977)" if error else
+            ", estimated by comparing every sequence with a fixed sample of the others") if sampled else "")
         + f"), {meta['effective_sequences']:.1f} in all; a column's effective number was the summed weight of "
         "the sequences holding a residue in it. For each column, the weighted Shannon entropy over the 20 "
         "standard residues (Shannon 1948; gaps and unknown residues excluded), the entropy over six property "
@@ -92,10 +99,13 @@ def methods_text(table: pd.DataFrame) -> str:
         "came from the posterior distribution of a column's residue shares: a Dirichlet prior of total weight "
         f"{rules['prior_weight']:g} spread by the BLOSUM62 background frequencies, updated by the column's "
         "frequencies times its effective number of sequences (the conjugate update; Gelman et al. 2013), so that "
-        "the share of any set of residues is Beta distributed. A column was invariant when the posterior "
-        f"probability that its most frequent residue holds at least {rules['invariant_min']:g} of the column was "
-        f"at least {rules['confidence']:g}; conservative when the same held for a share of {rules['group_min']:g} "
-        f"of its substitution group, built greedily from the most frequent residue down under {grouping}; and "
+        "the share of any set of residues is Beta distributed. A residue's share of a column is the part of "
+        "the column's residues it makes up, each sequence counted with its weight and gaps not counted. A "
+        "column was invariant when the posterior probability that its most frequent residue makes up at least "
+        f"{rules['invariant_min'] * 100:g}% of the column's residues was at least {rules['confidence']:g}; "
+        f"conservative when the same held for its substitution group making up at least "
+        f"{rules['group_min'] * 100:g}%, the group built greedily from the most frequent residue down under "
+        f"{grouping}; and "
         "variable otherwise. That probability is reported as the column's support. Columns with fewer than "
         f"{rules['min_neff']:g} effective sequences were flagged as low-data"
         + (f", and the family as a whole held fewer than {rules['min_neff']:g} effective sequences, so its "
@@ -156,12 +166,25 @@ CONTRAST_CITATIONS = [
     "Miller GA (1955) Note on the bias of information estimates. In: Quastler H (ed) Information Theory in "
     "Psychology. Free Press, pp 95-100.",
     "Sokal RR, Rohlf FJ (1995) Biometry, 3rd edn. Freeman (the G-test of independence).",
+    "Benjamini Y, Hochberg Y (1995) Controlling the false discovery rate: a practical and powerful approach to "
+    "multiple testing. J R Stat Soc B 57:289-300.",
 ]
 
 
 PERMUTATION_CITATION = ["Good P (2005) Permutation, Parametric, and Bootstrap Tests of Hypotheses, 3rd edn. "
                          "Springer."]
 
+
+
+def reference_list(cited: list[str]) -> list[str]:
+    """The references in a stable order: alphabetical by first author (then year and title), duplicates once.
+
+    Examples
+    --------
+    >>> reference_list(["Shannon CE (1948) ...", "Capra JA, Singh M (2007) ...", "Shannon CE (1948) ..."])
+    ['Capra JA, Singh M (2007) ...', 'Shannon CE (1948) ...']
+    """
+    return sorted(set(cited), key=lambda text: (text.casefold(), text))
 
 
 def contrast_methods_text(meta: dict) -> str:
@@ -174,8 +197,44 @@ def contrast_methods_text(meta: dict) -> str:
         "(Lin 1991), and by the mutual information between residue and group with the Miller-Madow correction "
         "(Miller 1955); significance came from the G-test of the residue-by-group table (Sokal and Rohlf 1995)"
         + (f" and from {meta['permutations']} permutations of the group labels" if meta["permutations"] else "")
-        + f". Groups with fewer than {meta['min_group_neff']:g} effective sequences were left out. A column was "
-        f"group-specific when every group's consensus carried at least {meta['conserved_min']:g} of its residue "
-        "weight and the consensus differed between groups, shared when the consensus was the same in all, "
-        f"gap-rich above a gap fraction of {meta['max_gaps']:g}, and mixed otherwise."
+        + ". Because many columns were tested, the p-values were corrected by the Benjamini-Hochberg procedure "
+        "(Benjamini and Hochberg 1995) over the "
+        + (f"{meta['tested_columns']} " if "tested_columns" in meta else "")
+        + "columns with something to test; each column's q-value is the false discovery rate at which it would "
+        f"count as significant. Groups with fewer than {meta['min_group_neff']:g} effective sequences were left "
+        "out. A group counted as conserved in a column when its most common residue made up at least "
+        f"{meta['conserved_min'] * 100:g}% of the group's residues there, each sequence counted with its weight and "
+        "gaps not counted (its share of the residue weight), and the group had at most "
+        f"{meta['max_gaps'] * 100:g}% gaps there. A column was group-specific when every group was conserved and "
+        "their most common residues differed, shared when every group was conserved with the same residue, "
+        f"gap-rich when more than {meta['max_gaps'] * 100:g}% of the grouped sequences had a gap there, and mixed "
+        "otherwise."
+    )
+
+
+STRUCTURE_CITATIONS = [
+    "Shrake A, Rupley JA (1973) Environment and exposure to solvent of protein atoms. Lysozyme and insulin. "
+    "J Mol Biol 79:351-371.",
+    "Tien MZ, Meyer AG, Sydykova DK, Spielman SJ, Wilke CO (2013) Maximum allowed solvent accessibilites of "
+    "residues in proteins. PLoS ONE 8:e80635.",
+    "Rost B, Sander C (1994) Conservation and prediction of solvent accessibility in protein families. "
+    "Proteins 20:216-226.",
+    "Cock PJA et al. (2009) Biopython: freely available Python tools for computational molecular biology and "
+    "bioinformatics. Bioinformatics 25:1422-1423.",
+]
+
+
+def structure_methods_text(meta: dict) -> str:
+    """The methods sentences of the structural columns, from the ``structure`` metadata of a column table."""
+    return (
+        f"Chain {meta['chain']} of {Path(str(meta['file'])).name} was placed on the alignment's columns by aligning "
+        f"its sequence to the family profile ({meta['mapped']} of its {meta['residues']} residues placed). On the "
+        "first model, waters and hydrogens left out, the solvent-accessible surface of each residue was computed "
+        f"by the Shrake-Rupley method (Shrake and Rupley 1973; probe {meta['probe_radius']:g} A, "
+        f"{meta['sphere_points']} points per atom; Biopython, Cock et al. 2009) and divided by the theoretical "
+        "maximum accessibility of its residue type (Tien et al. 2013). Residues below "
+        f"{meta['core_below']:g} were classed core, from {meta['surface_from']:g} surface and boundary between "
+        "(the three-state cut-offs of Rost and Sander 1994). A residue with any atom within "
+        f"{meta['heme_contact_distance']:g} A of a heme atom was a heme contact, and one within "
+        f"{meta['interface_distance']:g} A of a protein atom of another chain lay at that chain's interface."
     )

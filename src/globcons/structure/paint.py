@@ -50,8 +50,6 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from globcons.align.dp import align
-from globcons.align.scoring_profile import query_codes
 from globcons.analysis.columns import SCORE_COLUMNS, SHOWN_SCORES
 from globcons.analysis.family import family_from_alignment
 from globcons.core.alignment import Alignment
@@ -108,9 +106,9 @@ def _check_table(alignment: Alignment, table: pd.DataFrame) -> None:
 def map_chain_to_alignment(sequence: str, alignment: Alignment, table: pd.DataFrame) -> np.ndarray:
     """Place each residue of a chain on a column of the alignment.
 
-    The sequence is aligned (glocal, affine gaps; :func:`globcons.align.dp.align`) to the profile of the
-    alignment's family, built with the frame labels of the column table so that gaps inside helices
-    cost more than in loops.
+    The sequence is aligned (glocal, affine gaps; :meth:`globcons.analysis.family.Family.columns_of`, the
+    mapping ``plan --structure`` uses too) to the profile of the alignment's family, built with the frame
+    labels of the column table so that gaps inside helices cost more than in loops.
 
     Parameters
     ----------
@@ -132,9 +130,7 @@ def map_chain_to_alignment(sequence: str, alignment: Alignment, table: pd.DataFr
     if not sequence:
         return np.zeros(0, dtype=np.int64)
     family = family_from_alignment(alignment, labels=tuple(str(label) for label in table["frame_label"]))
-    codes = query_codes(sequence.upper())
-    placement = align(family.profile.scores, family.profile.gaps, [codes])[0]
-    columns = np.asarray(placement.column_of_residue, dtype=np.int64)
+    columns = family.columns_of(sequence)
     return np.where(columns >= 0, columns + 1, 0)
 
 
