@@ -21,7 +21,7 @@ LAYERS: dict[str, int] = {
     "core": 1,
     "io": 2,
     "frame": 3,
-    "align": 4,
+    "align": 4, "phylo": 4,
     "analysis": 5,
     "mutations": 6,
     "plots": 7, "structure": 7,

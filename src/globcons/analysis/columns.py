@@ -33,8 +33,8 @@ from globcons.core.scores import (
 from globcons.errors import OptionError
 from globcons.frame.functional_sites import Site, check_user_sites, column_sites, sites
 
-__all__ = ["COLUMN_ORDER", "SHOWN_SCORES", "score_columns", "table_from_summary", "read_user_sites", "summarise",
-           "is_thin", "class_counts"]
+__all__ = ["COLUMN_ORDER", "SCORE_COLUMNS", "SHOWN_SCORES", "score_columns", "table_from_summary", "read_user_sites",
+           "summarise", "is_thin", "class_counts"]
 
 
 #: Order of the table's columns (``ref_position`` and ``ref_residue`` follow ``column`` with a reference).
@@ -43,13 +43,20 @@ COLUMN_ORDER = ("column", "frame_label", "sites", "class", "support", "low_data"
                 "gap_fraction", "unknown_fraction", "n_eff")
 
 #: The scores figures and structures show (``profile --score``, ``paint --score``), each higher where a
-#: column is more conserved, and each lower for a gappy column than for a filled invariant one.
+#: column is more conserved, and each lower for a gappy column than for a filled invariant one; ``rates``
+#: is the exception (see :data:`SCORE_COLUMNS`).
 SHOWN_SCORES: dict[str, str] = {
     "conservation": "conservation: (1 - entropy / log2 20) x (1 - gap fraction)",
     "property_conservation": "property conservation: (1 - property-class entropy / log2 6) x (1 - gap fraction)",
     "jsd": "Jensen-Shannon divergence from the BLOSUM62 background x (1 - gap fraction), bits",
     "n_eff": "effective sequences with a residue (clusters at the identity threshold)",
+    "rates": "evolutionary rate: posterior mean, lower = more conserved",
 }
+
+#: The table column behind each shown score, where its name differs (the rates live in ``rate``, added
+#: by :func:`globcons.analysis.rate_columns.add_rate_columns`). Unlike the others, lower ``rates`` means
+#: more conserved; a gappy column's rate stays near the prior mean 1, never low.
+SCORE_COLUMNS: dict[str, str] = {"rates": "rate"}
 
 
 def score_columns(alignment: Alignment, options: ScoreOptions | None = None, **kwargs) -> pd.DataFrame:

@@ -12,9 +12,11 @@ from globcons.cli.options import (
     alignment_argument,
     column_limit,
     frame_options,
+    rate_options,
     reader_options,
     score_options,
     scoring_options,
+    with_rates,
 )
 from globcons.cli.reporting import Reporter, common
 from globcons.plots.conservation import PROFILE_SCORES  # the figure commands need matplotlib anyway
@@ -89,6 +91,7 @@ def logo(alignment: str, output: str, label_range: str | None, column_spec: str 
               help="Score to plot, as the table has it (higher = more conserved; gaps lower every score).")
 @frame_options
 @click.option("--title", default=None, help="Figure title (default: the file and the score).")
+@rate_options
 @reader_options
 @scoring_options
 @common
@@ -105,9 +108,13 @@ def profile(alignment: str, output: str, score: str, title: str | None, fmt: str
     from globcons.plots.output import figure_format
 
     figure_format(output)
-    check_not_input(output, [alignment, kw.get("sites_path")])
+    check_not_input(output, [alignment, kw.get("sites_path"), kw.get("tree_path")])
+    if score != "rates" and (kw.get("tree_path") or kw.get("tree_output")):
+        raise click.UsageError("--tree and --tree-output go with --score rates")
     aligned = read_alignment(alignment, format=fmt, keep_inserts=keep_inserts, max_columns=column_limit(max_columns))
     table = score_columns(aligned, score_options(kw))
+    if score == "rates":
+        table = with_rates(table, aligned, kw, [alignment, kw.get("tree_path"), output], reporter.info)
     draw_profile(table, output, score=score, title=title, inputs=[alignment, kw.get("sites_path")])
     labelled = int((table["frame_label"] != "").sum())
     shown = labelled or len(table)

@@ -20,9 +20,14 @@ from globcons.core.neighbours import NEFF_EXACT_MAX_ROWS, NEFF_IDENTITY, NEFF_QU
 from globcons.core.weights import SCHEMES
 from globcons.io.checks import MAX_COLUMNS
 from globcons.io.formats import FORMATS, TABLE_FORMATS
+from globcons.phylo.rates import EXACT_MAX_ROWS
 
 if TYPE_CHECKING:
+    import pandas as pd
+
     from globcons.analysis.options import ScoreOptions
+    from globcons.core.alignment import Alignment
+    from globcons.phylo.rates import RateOptions
 
 __all__ = [
     "LOGO_MAX_COLUMNS",
@@ -31,6 +36,10 @@ __all__ = [
     "paper_options",
     "frame_options",
     "grouping_options",
+    "rate_options",
+    "rate_settings",
+    "report_rate_options",
+    "with_rates",
     "reader_options",
     "score_options",
     "scoring_options",
@@ -228,3 +237,61 @@ def paper_options(command: F) -> F:
                      help="Columns of the tex table (comma-separated; 'all' for every one). Default: column, "
                           "frame_label, class, support, consensus, conservation, gap_fraction, n_eff, sites."),
     ])
+
+
+_TREE_OPTION = click.option(
+    "--tree", "tree_path", type=click.Path(dir_okay=False, allow_dash=True), default=None,
+    help="Rates on this Newick tree (leaf names = the alignment's ids; topology kept, branch lengths refitted) "
+         "instead of a neighbour-joining tree from the alignment.")
+_MAX_ROWS_OPTION = click.option(
+    "--rates-max-rows", type=click.IntRange(3, None), default=EXACT_MAX_ROWS, show_default=True,
+    help="Rates use every row up to this many; above, a representative subset of this size (weighted by the "
+         "clusters at --identity).")
+
+
+def rate_options(command: F) -> F:
+    """--tree, --rates-max-rows and --tree-output: how the per-column rates are estimated and where the tree goes."""
+    return _apply(command, [
+        _TREE_OPTION,
+        _MAX_ROWS_OPTION,
+        click.option("--tree-output", default=None, metavar="FILE",
+                     help="Write the tree the rates used (Newick) here (default: beside the output, "
+                          "<output>.tree.nwk; none for standard output)."),
+    ])
+
+
+def report_rate_options(command: F) -> F:
+    """--rates, --tree and --rates-max-rows of the report (its tree goes into the report's folder)."""
+    return _apply(command, [
+        click.option("--rates", is_flag=True,
+                     help="Add the per-column evolutionary rates: rate columns, a rate profile, tree.nwk."),
+        _TREE_OPTION,
+        _MAX_ROWS_OPTION,
+    ])
+
+
+def rate_settings(kw: Mapping[str, Any]) -> RateOptions:
+    """The ``RateOptions`` of a command's :func:`rate_options` (and its --identity)."""
+    from globcons.phylo.rates import RateOptions
+
+    return RateOptions(max_rows=kw["rates_max_rows"], identity=kw["identity"])
+
+
+def with_rates(table: pd.DataFrame, aligned: Alignment, kw: Mapping[str, Any], inputs: Sequence = (),
+               say: Callable[[str], None] | None = None) -> pd.DataFrame:
+    """The table with the rate columns (``--score rates`` of profile and paint); the tree to --tree-output if given.
+
+    ``say`` (a reporter's ``info``) is told how the rates were made, a subset included.
+    """
+    from globcons.analysis.rate_columns import add_rate_columns
+    from globcons.io.atomic import check_not_input
+    from globcons.phylo.newick import write_newick
+
+    if kw.get("tree_output") is not None:
+        check_not_input(kw["tree_output"], inputs)
+    table, result = add_rate_columns(table, aligned, rate_settings(kw), kw.get("tree_path"))
+    if kw.get("tree_output") is not None:
+        write_newick(result.fit.tree, kw["tree_output"], inputs)
+    if say is not None:
+        say(result.describe())
+    return table

@@ -6,7 +6,7 @@ from typing import Any
 
 import click
 
-from globcons.cli.options import column_limit, reader_options, score_options, scoring_options
+from globcons.cli.options import column_limit, rate_options, reader_options, score_options, scoring_options, with_rates
 from globcons.cli.reporting import Reporter, common
 from globcons.structure.paint import SCORES, SENTINEL
 
@@ -19,12 +19,14 @@ __all__ = ["paint"]
               help="The family alignment whose column scores are painted ('-' reads standard input).")
 @click.option("--chain", default=None, help="Chain to paint (default: the first chain with protein residues).")
 @click.option("--score", type=click.Choice(tuple(SCORES)), default="conservation", show_default=True,
-              help="Column score written into the B-factors (the profile's scores: higher = more conserved).")
+              help="Column score written into the B-factors (the profile's scores: higher = more conserved; "
+                   "rates: the relative evolutionary rate, lower = more conserved).")
 @click.option("--unmapped", "unmapped_value", type=float, default=SENTINEL, show_default=True,
               help="B-factor of every atom without a score: unmapped residues, other chains, waters, ligands.")
 @click.option("-o", "--output", required=True,
               help="Painted structure: .pdb/.ent writes PDB, .cif/.mmcif writes mmCIF ('-': standard output, "
                    "in the input's format).")
+@rate_options
 @reader_options
 @scoring_options
 @common
@@ -41,12 +43,16 @@ def paint(structure: str, alignment_path: str, chain: str | None, score: str, un
     from globcons.io.atomic import check_not_input
     from globcons.structure.paint import paint_structure
 
-    inputs = [structure, alignment_path]
+    inputs = [structure, alignment_path, kw.get("tree_path")]
     check_not_input(output, inputs)
+    if score != "rates" and (kw.get("tree_path") or kw.get("tree_output")):
+        raise click.UsageError("--tree and --tree-output go with --score rates")
     options = score_options(kw)
     aligned = read_alignment(alignment_path, format=fmt, keep_inserts=keep_inserts,
                              max_columns=column_limit(max_columns))
     table = score_columns(aligned, options)
+    if score == "rates":
+        table = with_rates(table, aligned, kw, [*inputs, output], reporter.info)
     result = paint_structure(structure, aligned, table, output, chain=chain, score=score,
                              unmapped=unmapped_value, inputs=[alignment_path])
     reporter.info(result.describe())

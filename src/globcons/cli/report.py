@@ -12,7 +12,9 @@ from globcons.cli.options import (
     column_limit,
     grouping_options,
     paper_options,
+    rate_settings,
     reader_options,
+    report_rate_options,
     score_options,
     scoring_options,
     structure_options,
@@ -35,6 +37,7 @@ __all__ = ["report"]
 @click.option("--no-logos", is_flag=True, help="Skip the logos of each helix (the slowest part).")
 @grouping_options
 @structure_options
+@report_rate_options
 @paper_options
 @reader_options
 @scoring_options
@@ -42,18 +45,22 @@ __all__ = ["report"]
 def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, max_columns: int | None, no_logos: bool,
            reporter: Reporter, groups_file: str | None, group_by: str | None, min_group_neff: float,
            permutations: int, seed: int, conserved_min: float, structure_path: str | None, chain_id: str | None,
-           only_classes: list[str], only_labels: list[str], tex_columns: list[str], **kw: Any) -> None:
+           only_classes: list[str], only_labels: list[str], tex_columns: list[str], rates: bool,
+           tree_path: str | None, **kw: Any) -> None:
     """Write an offline report of ALIGNMENT: report.html (self-contained), tables, figures, methods text.
 
     With --groups FILE or --group-by REGEX|nearest, the report adds a group contrast section and contrast.tsv;
     with --structure FILE (and --chain ID), the column table carries the chain's burial, heme contacts and
-    interfaces.
+    interfaces; with --rates, the per-column evolutionary rates, their profile and the tree they used.
     """
     from globcons.errors import OptionError
     from globcons.report.html import write_report
 
     if chain_id is not None and structure_path is None:
         raise OptionError("--chain needs --structure FILE")
+    if tree_path is not None and not rates:
+        raise OptionError("--tree goes with --rates")
+    rate_arguments = {"options": rate_settings(kw), "tree_path": tree_path} if rates else None
     if groups_file is not None and group_by is not None:
         raise OptionError("give either --groups FILE or --group-by REGEX|nearest, not both")
     contrast = None
@@ -64,9 +71,12 @@ def report(alignment: str, out_dir: str, fmt: str | None, keep_inserts: bool, ma
         result = write_report(alignment, out_dir, score_options(kw), fmt=fmt, keep_inserts=keep_inserts,
                               logos=not no_logos, contrast=contrast, structure=structure_path, chain=chain_id,
                               max_columns=column_limit(max_columns), only_classes=only_classes,
-                              only_labels=only_labels, tex_columns=tex_columns or None, progress=progress)
+                              only_labels=only_labels, tex_columns=tex_columns or None, progress=progress,
+                              rates=rate_arguments)
     if structure_path is not None:
         reporter.info(result.structure_note)
     counts = result.table.attrs["class_counts"]
     reporter.info(f"{result.table.attrs['columns']} columns: " + ", ".join(f"{v} {k}" for k, v in counts.items()))
+    if rates:
+        reporter.info(result.table.attrs["rates"]["summary"])
     reporter.info(f"wrote {len(result.files)} files in {os.path.abspath(out_dir)}; open {result.html}")

@@ -10,7 +10,7 @@ import pandas as pd
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
-from globcons.analysis.columns import SHOWN_SCORES, class_counts
+from globcons.analysis.columns import SCORE_COLUMNS, SHOWN_SCORES, class_counts
 from globcons.errors import OptionError
 from globcons.plots.axes import draw_helix_track, position_axis, shade_helices, spread_labels
 from globcons.plots.output import figure_format, finish_figure, plain_text
@@ -61,7 +61,8 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
         Write the figure here (format by extension); None: only return it.
     score
         A key of :data:`PROFILE_SCORES` (default ``conservation``), plotted as it is in the table: every
-        one is higher where a column is more conserved, and gaps lower it.
+        one but ``rates`` is higher where a column is more conserved, and gaps lower it; ``rates`` (the
+        table's ``rate``) is lower where a column evolves more slowly.
     title
         Figure title (default: the table's input file).
     inputs
@@ -83,7 +84,10 @@ def draw_profile(table: pd.DataFrame, path: str | os.PathLike | None = None, sco
         raise OptionError("the column table is empty: nothing to draw")
     labels = list(shown["frame_label"].astype(str)) if labelled.any() else [""] * len(shown)
     axis_label = PROFILE_SCORES[score]
-    values = shown[score].to_numpy(dtype=np.float64)
+    column = SCORE_COLUMNS.get(score, score)
+    if column not in shown:
+        raise OptionError(f"the column table has no {column!r} column (the {score} score); add it first")
+    values = shown[column].to_numpy(dtype=np.float64)
     x = np.arange(len(shown))
     width = float(np.clip(2.5 + 0.075 * len(shown), 7.0, 24.0))
     fig = Figure(figsize=(width, 4.6), layout="constrained")

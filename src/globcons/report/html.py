@@ -8,6 +8,8 @@ and the logos of each helix, and writes into a folder:
   data, with autoescaping on (sequence ids and annotations are user input);
 - ``columns.tsv`` (+ ``columns.tsv.meta.json``), ``columns.md``, ``columns.tex`` (booktabs);
 - ``profile.svg``, ``profile.png`` and ``logo_<helix>.svg``;
+- with ``rates=``, the rate columns in the tables (:mod:`globcons.analysis.rate_columns`), ``tree.nwk``
+  (the tree they used) and ``rates_profile.svg``/``.png``, also shown in the HTML;
 - ``methods.md``: the methods paragraph, generated from the options actually used, with its citations
   (:mod:`globcons.report.methods`);
 - with a grouping (``contrast=``), ``contrast.tsv`` (+ meta) and ``contrast.svg``/``contrast.png``: the
@@ -36,6 +38,7 @@ from globcons.analysis.columns import score_columns
 from globcons.analysis.contrast import assign_groups, contrast_columns, top_contrast
 from globcons.analysis.options import ScoreOptions
 from globcons.analysis.paper import keep_rows, paper_table, write_column_table
+from globcons.analysis.rate_columns import add_rate_columns
 from globcons.core.alignment import Alignment
 from globcons.core.labels import HELICES, segment_of
 from globcons.core.vocabulary import CAUTION, CONTRAST_CLASSES
@@ -65,7 +68,7 @@ CSS_PX_PER_INCH = 96
 
 _NUMERIC = {"column", "ref_position", "support", "conservation", "property_conservation", "entropy_bits",
             "entropy_norm", "property_entropy", "jsd", "gap_fraction",
-            "unknown_fraction", "n_eff", "rsa", "iron_distance"}
+            "unknown_fraction", "n_eff", "rsa", "iron_distance", "rate", "rate_low", "rate_high"}
 
 
 @dataclass(frozen=True)
@@ -102,7 +105,7 @@ def _options_list(table: pd.DataFrame) -> list[tuple[str, str]]:
         ("low-data below", f"{rules['min_neff']:g} effective sequences"),
         ("JSD window", str(meta["window"])),
         ("frame", frame.get("note") or "not tied"),
-    ]
+    ] + ([("evolutionary rates", meta["rates"]["summary"])] if meta.get("rates") else [])
 
 
 def _contrast_section(aligned: Alignment, folder: Path, options: ScoreOptions, settings: dict, inputs: list,
@@ -151,13 +154,20 @@ def _write_tables(table: pd.DataFrame, folder: Path, inputs: list, tex_columns: 
     return files
 
 
-def _write_profile(table: pd.DataFrame, folder: Path, inputs: list, files: list[str]) -> str:
-    """Write profile.svg and .png; return the SVG as a data URI."""
-    figure = draw_profile(table)
+def _write_profile(table: pd.DataFrame, folder: Path, inputs: list, files: list[str], score: str = "conservation",
+                   name: str = "profile") -> str:
+    """Write <name>.svg and .png of a score's profile; return the SVG as a data URI."""
+    figure = draw_profile(table, score=score)
     for ext in ("svg", "png"):
-        save_figure(figure, folder / f"profile.{ext}", inputs)
-        files.append(str(folder / f"profile.{ext}"))
-    return _data_uri(folder / "profile.svg", "image/svg+xml")
+        save_figure(figure, folder / f"{name}.{ext}", inputs)
+        files.append(str(folder / f"{name}.{ext}"))
+    return _data_uri(folder / f"{name}.svg", "image/svg+xml")
+
+
+def _write_tree(newick: str, folder: Path, inputs: list, files: list[str]) -> None:
+    with atomic_output(folder / "tree.nwk", inputs) as stream:
+        stream.write(newick + "\n")
+    files.append(str(folder / "tree.nwk"))
 
 
 def _helices_of(table: pd.DataFrame) -> list[str]:
@@ -201,7 +211,8 @@ def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, in
 
 
 def _render_html(table: pd.DataFrame, shown: pd.DataFrame, profile_uri: str, logo_uris: list[tuple],
-                 methods: str, references: list[str], contrast_section: dict | None) -> str:
+                 methods: str, references: list[str], contrast_section: dict | None,
+                 rates_uri: str = "") -> str:
     """The page: summary, figures and sites of the whole ``table``; its column table shows the ``shown`` rows."""
     from jinja2 import Environment  # only the report needs templates
 
@@ -223,6 +234,7 @@ def _render_html(table: pd.DataFrame, shown: pd.DataFrame, profile_uri: str, log
         low_data=meta["low_data_columns"], min_neff=f"{meta['rules']['min_neff']:g}", notes=notes,
         table_columns=list(shown.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
         citations=references, contrast=contrast_section, kept=kept,
+        rates_uri=rates_uri, rates_summary=(meta.get("rates") or {}).get("summary", ""),
     )
 
 
@@ -231,7 +243,8 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
                  logos: bool = True, contrast: dict | None = None, structure: str | os.PathLike | None = None,
                  chain: str | None = None, max_columns: int | None = None, only_classes: Sequence[str] = (),
                  only_labels: Sequence[str] = (), tex_columns: Sequence[str] | None = None,
-                 progress: Callable[[str, int, int], None] | None = None) -> ReportResult:
+                 progress: Callable[[str, int, int], None] | None = None,
+                 rates: dict | None = None) -> ReportResult:
     """Write the report of an alignment into the folder ``out_dir``, replaced as a whole.
 
     Parameters
@@ -262,11 +275,16 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     progress
         Called as ``progress(step, done, total)`` after each step (scoring, tables, each figure, the page),
         for a progress display; the library itself prints nothing.
+    rates
+        Add the per-column rates: keyword arguments of
+        :func:`globcons.analysis.rate_columns.add_rate_columns` (``options``, ``tree_path``); ``{}`` for
+        the defaults.
     """
     folder = Path(out_dir)
     options = options or ScoreOptions()
     inputs = [] if isinstance(alignment, Alignment) else [alignment]
-    check_folder_output(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file"), structure])
+    check_folder_output(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file"), structure,
+                                 (rates or {}).get("tree_path")])
     aligned = alignment if isinstance(alignment, Alignment) else read_alignment(
         alignment, format=fmt, keep_inserts=keep_inserts, max_columns=max_columns)
     table = score_columns(aligned, options)
@@ -274,11 +292,15 @@ def write_report(alignment: str | os.PathLike | Alignment, out_dir: str | os.Pat
     if structure is not None:
         table, structure_note = add_structure_columns(aligned, table, structure, chain)
         inputs.append(structure)
+    if rates is not None:
+        table, _ = add_rate_columns(table, aligned, **rates)
+        if rates.get("tree_path"):
+            inputs.append(rates["tree_path"])
     shown = keep_rows(table, only_classes, only_labels)
     tex = list(tex_columns) if tex_columns else None
     paper_table(shown, tex)  # a bad --tex-columns fails before any file
     helices = _helices_of(table) if logos else []
-    step = _Steps(progress, 4 + len(helices) + (1 if contrast else 0))
+    step = _Steps(progress, 4 + len(helices) + (1 if contrast else 0) + (1 if rates is not None else 0))
     step("scored the columns")
     with atomic_folder(folder, [*inputs, options.sites_path, (contrast or {}).get("groups_file")]) as work:
         files = _write_report_files(aligned, table, shown, work, options, inputs, logos, contrast, tex, step)
@@ -295,6 +317,11 @@ def _write_report_files(aligned: Alignment, table: pd.DataFrame, shown: pd.DataF
     step("wrote the tables")
     profile_uri = _write_profile(table, folder, inputs, files)
     step("drew the profile")
+    rates_uri = ""
+    if "rates" in table.attrs:
+        _write_tree(table.attrs["rates"]["tree_newick"], folder, inputs, files)
+        rates_uri = _write_profile(table, folder, inputs, files, score="rates", name="rates_profile")
+        step("drew the rates")
     logo_uris = _write_helix_logos(aligned, table, folder, inputs, files, step) if logos else []
     contrast_section = None
     methods, references = methods_text(table), citations(table.attrs)
@@ -311,7 +338,7 @@ def _write_report_files(aligned: Alignment, table: pd.DataFrame, shown: pd.DataF
         stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
                      + "\n".join(f"- {c}" for c in references) + "\n")
     files.append(str(folder / "methods.md"))
-    html = _render_html(table, shown, profile_uri, logo_uris, methods, references, contrast_section)
+    html = _render_html(table, shown, profile_uri, logo_uris, methods, references, contrast_section, rates_uri)
     with atomic_output(folder / "report.html", inputs) as stream:
         stream.write(html)
     files.insert(0, str(folder / "report.html"))

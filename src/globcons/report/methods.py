@@ -6,8 +6,9 @@ from pathlib import Path
 
 import pandas as pd
 
-__all__ = ["methods_text", "citations", "contrast_methods_text", "reference_list", "structure_methods_text",
-           "CONTRAST_CITATIONS", "PERMUTATION_CITATION", "STRUCTURE_CITATIONS"]
+__all__ = ["methods_text", "citations", "contrast_methods_text", "rates_methods_text", "reference_list",
+           "structure_methods_text", "CONTRAST_CITATIONS", "PERMUTATION_CITATION", "RATES_CITATIONS",
+           "STRUCTURE_CITATIONS"]
 
 
 def citations(meta: dict) -> list[str]:
@@ -39,6 +40,10 @@ def citations(meta: dict) -> list[str]:
                   "Gotoh O (1982) An improved algorithm for matching biological sequences. J Mol Biol 162:705-708.",
                   "Karlin S, Altschul SF (1990) Methods for assessing the statistical significance of molecular "
                   "sequence features by using general scoring schemes. PNAS 87:2264-2268."]
+    if meta.get("rates"):
+        cited += RATES_CITATIONS
+        if meta["rates"].get("subset"):
+            cited.append(SUBSET_CITATION)
     return cited
 
 
@@ -109,7 +114,51 @@ def methods_text(table: pd.DataFrame) -> str:
         + frame_sentence
         + " Sequence logos show information in bits with the small-sample correction of Schneider et al. (1986)."
     )
+    if meta.get("rates"):
+        text += " " + rates_methods_text(meta)
     return text
+
+
+RATES_CITATIONS = [
+    "Le SQ, Gascuel O (2008) An improved general amino acid replacement matrix. Mol Biol Evol 25:1307-1320.",
+    "Yang Z (1994) Maximum likelihood phylogenetic estimation from DNA sequences with variable rates over "
+    "sites: approximate methods. J Mol Evol 39:306-314.",
+    "Felsenstein J (1981) Evolutionary trees from DNA sequences: a maximum likelihood approach. J Mol Evol "
+    "17:368-376.",
+    "Saitou N, Nei M (1987) The neighbor-joining method: a new method for reconstructing phylogenetic trees. "
+    "Mol Biol Evol 4:406-425.",
+    "Byrd RH, Lu P, Nocedal J, Zhu C (1995) A limited memory algorithm for bound constrained optimization. "
+    "SIAM J Sci Comput 16:1190-1208.",
+]
+
+SUBSET_CITATION = ("Efraimidis PS, Spirakis PG (2006) Weighted random sampling with a reservoir. Inf Process Lett "
+                   "97:181-185.")
+
+
+def rates_methods_text(meta: dict) -> str:
+    """The methods sentences of the per-column rates, from ``meta["rates"]`` (see
+    :func:`globcons.analysis.rate_columns.add_rate_columns`)."""
+    rates = meta["rates"]
+    rows = (f"a representative subset of {rates['rows_used']} of the {meta['sequences']} sequences (a weighted "
+            f"sample without replacement, each sequence weighted one over its cluster size at "
+            f"{meta['identity']:.0%} identity; Efraimidis and Spirakis 2006)" if rates["subset"]
+            else f"all {rates['rows_used']} sequences")
+    tree = ("a neighbour-joining tree (Saitou and Nei 1987) of distances corrected under the same model (the "
+            "branch length at which the model predicts the observed proportion of differing residues)"
+            if rates["tree_source"] == "neighbour joining" else "the topology of a tree supplied by the user")
+    return (
+        f"Relative evolutionary rates per column were estimated on {rows} under the LG model (Le and Gascuel "
+        f"2008) with {rates['gamma_categories']} discrete gamma rate categories (Yang 1994), on {tree}. Branch "
+        "lengths and the gamma shape were fitted by maximum likelihood (Felsenstein 1981; all branch lengths "
+        "jointly by L-BFGS-B with analytic gradients, Byrd et al. 1995, after a common scale; the shape by a "
+        f"bounded one-dimensional search), giving alpha = {rates['alpha']:.3g} and a total tree length of "
+        f"{rates['tree_total_length']:.3g} substitutions per site. A column's rate is its posterior mean under "
+        f"the fitted gamma prior, evaluated over {rates['posterior_categories']} equal-probability categories "
+        f"(the empirical Bayes estimate of Yang 1994), with a central {rates['interval']:.0%} credible interval; gaps "
+        "and unknown residues were treated as missing data. The rates are relative (the average column is 1), "
+        "they do not carry the uncertainty of the tree or of alpha, and a column with few residues stays near "
+        "the prior mean rather than looking conserved."
+    )
 
 
 CONTRAST_CITATIONS = [

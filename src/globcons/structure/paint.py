@@ -50,7 +50,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from globcons.analysis.columns import SHOWN_SCORES
+from globcons.analysis.columns import SCORE_COLUMNS, SHOWN_SCORES
 from globcons.analysis.family import family_from_alignment
 from globcons.core.alignment import Alignment
 from globcons.errors import InputWarning, OptionError, OutputError
@@ -75,7 +75,8 @@ __all__ = [
 #: B-factor of every atom that carries no score (written ``-1.00`` in PDB). No score is negative.
 SENTINEL = -1.0
 
-#: Scores that can be painted: the same as the profile's (higher = more conserved, gaps lower them).
+#: Scores that can be painted: the same as the profile's (higher = more conserved, gaps lower them; ``rates``
+#: is the posterior mean rate, lower = more conserved).
 SCORES: dict[str, str] = dict(SHOWN_SCORES)
 
 #: Output formats by extension.
@@ -206,9 +207,10 @@ def score_values(table: pd.DataFrame, score: str) -> np.ndarray:
     """
     if score not in SCORES:
         raise OptionError(f"unknown score {score!r}; choose one of {', '.join(SCORES)}")
-    if score not in table.columns:
-        raise OptionError(f"the column table has no {score!r} column")
-    return table[score].to_numpy(dtype=np.float64)
+    column = SCORE_COLUMNS.get(score, score)
+    if column not in table.columns:
+        raise OptionError(f"the column table has no {column!r} column")
+    return table[column].to_numpy(dtype=np.float64)
 
 
 # ---------------------------------------------------------------------------------------------------
