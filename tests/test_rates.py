@@ -446,6 +446,24 @@ def test_builtin_family_heme_pocket_columns_are_among_the_slowest():
         assert rank[labels.index(label)] <= 0.10, f"{label} at the {rank[labels.index(label)]:.0%} point"
 
 
+def test_heme_pocket_columns_of_real_globins_are_among_the_slowest():
+    # The 49 real globins shipped in data/family (each checked against two public copies of its record;
+    # vertebrate myoglobins and hemoglobins, neuroglobin, a lamprey, invertebrate, plant, flavo- and
+    # truncated globins) placed on the frame: the proximal His F8, the distal E7 and Phe CD1 are the
+    # family's most conserved positions (common knowledge of the trade; Bashford, Chothia & Lesk 1987
+    # J Mol Biol 196:199), so their rates rank among the slowest 10% of the columns.
+    from globcons.align.layout import align_to_frame
+    from globcons.frame.verified_globins import verified_globins
+
+    placed = align_to_frame([(row.accession, row.sequence) for row in verified_globins()], shuffles=0)
+    family = placed.to_alignment()
+    result = column_rates(family)
+    rank = (np.argsort(np.argsort(result.rate)) + 1) / result.rate.size
+    labels = list(family.frame_labels)
+    for label in ("F8", "E7", "CD1"):
+        assert rank[labels.index(label)] <= 0.10, f"{label} at the {rank[labels.index(label)]:.0%} point"
+
+
 # --- subsets, metadata, command line ------------------------------------------------------------------
 
 def test_representative_subset_is_fixed_and_spreads_over_clusters():
