@@ -122,3 +122,14 @@ def test_methods_text_covers_the_group_contrast(tmp_path):
     methods = (tmp_path / "out" / "methods.md").read_text()
     assert "generalised Jensen-Shannon divergence" in methods and "site1 (12 sequences" in methods
     assert "Lin J (1991)" in methods and "Miller GA (1955)" in methods
+
+
+def test_a_report_without_logos_says_why_there_are_none(tmp_path):
+    # --no-logos must not read as "the columns carry no frame labels" (they do, on the demo family).
+    from globcons.demo import demo_alignment_path
+    from globcons.report.html import write_report
+
+    write_report(demo_alignment_path(), tmp_path / "r", logos=False)
+    page = (tmp_path / "r" / "report.html").read_text()
+    assert "Helix logos were not drawn (--no-logos)." in page
+    assert "carry no frame labels" not in page

@@ -212,7 +212,7 @@ def _write_helix_logos(aligned: Alignment, table: pd.DataFrame, folder: Path, in
 
 def _render_html(table: pd.DataFrame, shown: pd.DataFrame, profile_uri: str, logo_uris: list[tuple],
                  methods: str, references: list[str], contrast_section: dict | None,
-                 rates_uri: str = "") -> str:
+                 rates_uri: str = "", logos_asked: bool = True) -> str:
     """The page: summary, figures and sites of the whole ``table``; its column table shows the ``shown`` rows."""
     from jinja2 import Environment  # only the report needs templates
 
@@ -234,7 +234,7 @@ def _render_html(table: pd.DataFrame, shown: pd.DataFrame, profile_uri: str, log
         low_data=meta["low_data_columns"], min_neff=f"{meta['rules']['min_neff']:g}", notes=notes,
         table_columns=list(shown.columns), numeric=_NUMERIC, table_rows=rows, methods=methods,
         citations=references, contrast=contrast_section, kept=kept,
-        rates_uri=rates_uri, rates_summary=(meta.get("rates") or {}).get("summary", ""),
+        rates_uri=rates_uri, rates_summary=(meta.get("rates") or {}).get("summary", ""), logos_asked=logos_asked,
     )
 
 
@@ -338,7 +338,8 @@ def _write_report_files(aligned: Alignment, table: pd.DataFrame, shown: pd.DataF
         stream.write("## Methods\n\n" + methods + "\n\n### References\n\n"
                      + "\n".join(f"- {c}" for c in references) + "\n")
     files.append(str(folder / "methods.md"))
-    html = _render_html(table, shown, profile_uri, logo_uris, methods, references, contrast_section, rates_uri)
+    html = _render_html(table, shown, profile_uri, logo_uris, methods, references, contrast_section, rates_uri,
+                        logos_asked=logos)
     with atomic_output(folder / "report.html", inputs) as stream:
         stream.write(html)
     files.insert(0, str(folder / "report.html"))
