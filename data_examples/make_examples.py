@@ -71,7 +71,7 @@ def human_beta() -> tuple[str, str]:
     """(header, sequence with Met) of human hemoglobin beta from the package's reference chains."""
     for header, sequence in read_fasta(REFERENCE_CHAINS):
         if header.split()[0] == "human_hemoglobin_beta":
-            accession = re.search(r"accession=(\S+)", header).group(1)
+            accession = re.search(r"accession=UniProt (\S+)", header).group(1)
             return accession, sequence
     raise SystemExit("human_hemoglobin_beta not found in the reference chains")
 

@@ -198,7 +198,14 @@ def test_real_example_files_match_their_records():
     beta = "".join((EXAMPLES / "beta.fasta").read_text().splitlines()[1:])
     mature = "".join((EXAMPLES / "beta_mature.fasta").read_text().splitlines()[1:])
     assert len(beta) == 147 and beta.startswith("MVHLTPEEK") and beta[1:] == mature
+    # ... and both are held against the verified P68871 row and its checksum (data/family: two public copies)
+    from globcons.frame.verified_globins import sequence_checksum, stored_checksums, verified_globins
+
+    verified = {row.accession: row.sequence for row in verified_globins()}
+    assert beta == verified["P68871"] and sequence_checksum(beta) == stored_checksums()["P68871"]
+    assert "UniProt P68871" in (EXAMPLES / "beta.fasta").read_text().splitlines()[0]
     model = PDBParser(QUIET=True).get_structure("2hhb", str(EXAMPLES / "2hhb.pdb"))[0]
     chains = {c.id: "".join(seq1(r.get_resname()) for r in c if r.id[0] == " ") for c in model}
     assert chains["B"] == chains["D"] == mature
     assert len(chains["A"]) == len(chains["C"]) == 141
+    assert chains["A"] == chains["C"] == verified["P69905"][1:]  # alpha, mature chain of the verified record
