@@ -30,14 +30,13 @@ from __future__ import annotations
 
 import argparse
 import math
-import os
-import platform
 import subprocess
 import sys
 import tempfile
 from pathlib import Path
 
 import numpy as np
+from machine import machine_line
 
 STANDARD = np.frombuffer(b"ACDEFGHIKLMNPQRSTVWY", dtype=np.uint8)
 
@@ -196,9 +195,7 @@ def main() -> None:
     parser.add_argument("--repeats", type=int, default=3, help="runs per goal measurement (the best counts)")
     args = parser.parse_args()
     folder = Path(tempfile.mkdtemp(prefix="globcons-bench-"))
-    memory = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") / 2**30
-    print(f"machine: {platform.machine()} {platform.processor() or ''}, {os.cpu_count()} cores, {memory:.0f} GiB, "
-          f"Python {platform.python_version()}, numpy {np.__version__}")
+    print(machine_line())
     if args.goals:
         goals(folder, args.repeats)
         for leftover in folder.iterdir():

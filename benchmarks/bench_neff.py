@@ -21,11 +21,10 @@ memory first). Usage:
 from __future__ import annotations
 
 import argparse
-import os
-import platform
 import time
 
 import numpy as np
+from machine import machine_line
 
 from globcons.core.neighbours import NEFF_QUERY_ROWS, NEFF_SAMPLE_ROWS, estimate_neighbours, neighbour_counts
 
@@ -59,9 +58,7 @@ def main() -> None:
     parser.add_argument("--sample", type=int, default=NEFF_SAMPLE_ROWS)
     parser.add_argument("--no-per-row", action="store_true", help="skip the per-row sampled counts")
     args = parser.parse_args()
-    memory = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") / 2**30
-    print(f"machine: {platform.machine()}, {os.cpu_count()} cores, {memory:.0f} GiB, Python "
-          f"{platform.python_version()}, numpy {np.__version__}")
+    print(machine_line())
     print(f"| rows x columns | shape | exact s | exact n_eff | estimated s ({args.queries} rows) | estimated n_eff "
           f"(± s.e.) | error | per-row sampled s ({args.sample:,} rows) | sampled n_eff | error |")
     print("|---:|---|---:|---:|---:|---:|---:|---:|---:|---:|")

@@ -15,12 +15,11 @@ also runs the largest size on every row. Usage:
 from __future__ import annotations
 
 import argparse
-import os
-import platform
 import resource
 import time
 
 import numpy as np
+from machine import machine_line
 from scipy.stats import spearmanr
 
 from globcons.core.alignment import Alignment
@@ -111,9 +110,7 @@ def main() -> None:
     parser.add_argument("--max-rows", type=int, default=EXACT_MAX_ROWS)
     parser.add_argument("--exact", action="store_true", help="also run the largest size on every row")
     args = parser.parse_args()
-    memory = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") / 2**30
-    print(f"machine: {platform.machine()}, {os.cpu_count()} cores (shared), {memory:.0f} GiB, Python "
-          f"{platform.python_version()}, numpy {np.__version__}")
+    print(machine_line(' (shared)'))
     print("| rows x columns | rows used | distances + NJ s | scale+alpha s | branches s (iterations) | alpha s | "
           "posterior s | total s | peak MB | Spearman with true rates |")
     print("|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|")

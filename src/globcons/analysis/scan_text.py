@@ -14,12 +14,11 @@ from __future__ import annotations
 
 import csv
 import io
-import math
 from collections.abc import Sequence
 
 import numpy as np
 
-from globcons.io.tables import FIXED_MIN, FLOAT_DIGITS, format_number, neutralise_formula, text_cell
+from globcons.io.tables import float_texts, neutralise_formula, text_cell, tsv_cell
 
 __all__ = ["DELIMITED_FORMATS", "cell_texts", "delimited_text", "number_texts"]
 
@@ -39,11 +38,7 @@ def cell_texts(values: Sequence[object]) -> list[str]:
     if not kinds or kinds == {int} or kinds == {str}:
         return [str(v) for v in values]
     if kinds <= {int, float}:
-        numbers = np.array(values, dtype=np.float64)
-        if ((numbers != 0) & (np.abs(numbers) < FIXED_MIN)).any():  # significant digits, as io.tables does
-            return ["" if math.isnan(v) else format_number(v) for v in numbers.tolist()]
-        rounded = np.round(numbers, FLOAT_DIGITS) + 0.0  # + 0.0: no negative zero
-        return ["" if math.isnan(v) else f"{v:.{FLOAT_DIGITS}f}" for v in rounded.tolist()]
+        return float_texts(np.array(values, dtype=np.float64))
     if kinds == {bool}:
         return ["yes" if v else "no" for v in values]
     return [text_cell(v) for v in values]
@@ -65,14 +60,6 @@ def number_texts(values: np.ndarray, zero: str = "0") -> np.ndarray:
     return texts
 
 
-#: What a tsv cell may not hold (each becomes a space, as io.tables writes it).
-_TSV_BREAKS = ("\t", "\r", "\n")
-
-
-def _tsv_cell(text: str) -> str:
-    return text.replace("\t", " ").replace("\r\n", " ").replace("\n", " ").replace("\r", " ")
-
-
 def delimited_text(columns: Sequence[Sequence[str]], fmt: str) -> str:
     """Rows of the given text columns (equal lengths), one line each, as ``fmt`` (tsv or csv) writes them.
 
@@ -90,7 +77,7 @@ def delimited_text(columns: Sequence[Sequence[str]], fmt: str) -> str:
         text = "\n".join(map("\t".join, zip(*columns, strict=True))) + "\n"
         if text.count("\t") == n_rows * (len(columns) - 1) and text.count("\n") == n_rows and "\r" not in text:
             return text
-        cleaned = [[_tsv_cell(cell) for cell in column] for column in columns]
+        cleaned = [[tsv_cell(cell) for cell in column] for column in columns]
         return "\n".join(map("\t".join, zip(*cleaned, strict=True))) + "\n"
     buffer = io.StringIO()
     writer = csv.writer(buffer, delimiter=",", quoting=csv.QUOTE_MINIMAL, lineterminator="\n")

@@ -300,18 +300,19 @@ def neighbour_counts(codes: np.ndarray, identity: float = NEFF_IDENTITY,
 def estimate_neighbours(codes: np.ndarray, identity: float = NEFF_IDENTITY,
                         exact_max_rows: int = NEFF_EXACT_MAX_ROWS,
                         query_rows: int = NEFF_QUERY_ROWS) -> NeighbourCounts:
-    """Neighbour counts for the effective number: exact up to ``exact_max_rows``, else ``estimated``
-    from ``query_rows`` sampled rows compared with every row (:func:`query_neighbours`)."""
-    check_identity(identity)
-    n_rows = codes.shape[0]
-    if n_rows <= exact_max_rows:
-        return neighbour_counts(codes, identity, exact_max_rows)
-    chosen = sample_rows(n_rows, query_rows)
-    queries = np.ascontiguousarray(codes[chosen])
-    found = np.zeros(chosen.size, dtype=np.int64)
-    for start in range(0, n_rows, CHUNK_ROWS):
-        found += query_neighbours(codes[start:start + CHUNK_ROWS], queries, identity)
-    return NeighbourCounts(found.astype(np.float64), "estimated", identity, int(chosen.size), n_rows)
+    """The neighbour counts behind a column table's effective number, for a code matrix in memory: exact up
+    to ``exact_max_rows``, else ``estimated`` from ``query_rows`` sampled rows compared with every row.
+
+    The same computation as the column table's (:class:`ClusterCounts`, in the same blocks).
+    """
+    counter = ClusterCounts(identity, exact_max_rows, query_rows=query_rows)
+    starts = range(0, codes.shape[0], CHUNK_ROWS)
+    for start in starts:
+        counter.first_pass(codes[start:start + CHUNK_ROWS], start)
+    counter.finish_first_pass()
+    for start in starts:
+        counter.second_pass(codes[start:start + CHUNK_ROWS], start)
+    return counter.finish(column_counts(codes))[1]
 
 
 def estimated_column_counts(plain: np.ndarray, queries: np.ndarray, neighbours: NeighbourCounts) -> np.ndarray:

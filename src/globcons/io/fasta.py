@@ -24,7 +24,8 @@ from globcons.core.counts import step_rows
 from globcons.errors import InputError
 from globcons.io.checks import bad_character, finish_alignment, line_number
 
-__all__ = ["SLICE_BYTES", "parse_fasta_rows", "parse_fasta", "clean_fasta_rows", "lone_returns_to_newlines"]
+__all__ = ["SLICE_BYTES", "parse_fasta_rows", "parse_fasta", "clean_fasta_rows", "lone_returns_to_newlines",
+           "split_header"]
 
 #: Bytes per slice of the FASTA byte path. Slices end at line ends, and no whole-file mask is built, so
 #: the temporary memory is a few times this whatever the size of the file.
@@ -141,10 +142,16 @@ def _parse_headers(layout: _FastaLayout, headers: list[bytes], name: str) -> tup
         if not text:
             raise InputError("header line has no sequence id", source=name,
                              line=layout.line_of(int(layout.header_offsets[index])))
-        fields = text.split(None, 1)
-        ids.append(fields[0])
-        descriptions.append(fields[1] if len(fields) > 1 else "")
+        identifier, description = split_header(text)
+        ids.append(identifier)
+        descriptions.append(description)
     return ids, descriptions
+
+
+def split_header(text: str) -> tuple[str, str]:
+    """A header line's id (its first word) and description (the rest, without surrounding blanks)."""
+    fields = text.split(None, 1)
+    return fields[0], fields[1].strip() if len(fields) > 1 else ""
 
 
 def _sequence_lengths(layout: _FastaLayout) -> np.ndarray:
@@ -311,11 +318,10 @@ def _ids_and_descriptions(data: bytes | bytearray, starts: np.ndarray, ends: np.
                     strict=True)
         heads = b"\n".join([data[start + 1:stop] for start, stop in pairs])
         for line in heads.decode("utf-8", errors="replace").split("\n"):
-            fields = line.split(None, 1)
-            rest = fields[1].rstrip() if len(fields) > 1 else ""
+            identifier, rest = split_header(line)
             if rest == previous:
                 rest = previous
-            ids.append(fields[0])
+            ids.append(identifier)
             descriptions.append(rest)
             previous = rest
     return ids, descriptions

@@ -29,6 +29,7 @@ if TYPE_CHECKING:
     import pandas as pd
 
 __all__ = ["FLOAT_DIGITS", "SIGNIFICANT_DIGITS", "FIXED_MIN", "FORMULA_STARTS", "format_number", "neutralise_formula",
+           "float_texts", "needs_significant_digits", "tsv_cell",
            "format_table", "write_table", "text_cell", "metadata_path", "write_metadata"]
 
 #: Decimals of numbers written in fixed notation.
@@ -131,20 +132,33 @@ def _md_escape(text: str) -> str:
     return text.replace("\\", "\\\\").replace("|", "\\|")
 
 
+def needs_significant_digits(values: np.ndarray) -> bool:
+    """Whether a float column holds a value :func:`format_number` writes with significant digits."""
+    return bool(((values != 0) & (np.abs(values) < FIXED_MIN)).any())
+
+
+def float_texts(values: np.ndarray) -> list[str]:
+    """A float column as every delimited table writes it: :func:`format_number` per value when one of them
+    is small, else rounded to :data:`FLOAT_DIGITS` decimals (no ``-0.0000``); NaN as ''."""
+    if needs_significant_digits(values):
+        return ["" if math.isnan(v) else format_number(v) for v in values.tolist()]
+    rounded = np.round(values, FLOAT_DIGITS) + 0.0  # + 0.0: no negative zero
+    return ["" if math.isnan(v) else f"{v:.{FLOAT_DIGITS}f}" for v in rounded.tolist()]
+
+
 def _number_strings(column: pd.Series) -> pd.Series | None:
-    """A float column as :func:`format_number` writes it, or None when no value needs significant digits
+    """A float column as :func:`float_texts` writes it, or None when no value needs significant digits
     (then pandas' own float format is faster and the same)."""
     import pandas as pd
 
     values = column.to_numpy(dtype=float)
-    small = (values != 0) & (np.abs(values) < FIXED_MIN)
-    if not small.any():
+    if not needs_significant_digits(values):
         return None
-    return pd.Series([format_number(v) if not math.isnan(v) else "" for v in values], index=column.index,
-                     dtype=object)
+    return pd.Series(float_texts(values), index=column.index, dtype=object)
 
 
-def _tsv_cell(value: object) -> str:
+def tsv_cell(value: object) -> str:
+    """A tsv cell: the text of :func:`text_cell`, a tab or line end inside it made a space (tsv has no quoting)."""
     return text_cell(value).replace("\t", " ").replace("\r\n", " ").replace("\n", " ").replace("\r", " ")
 
 
@@ -165,7 +179,7 @@ def _delimited(table: pd.DataFrame, sep: str) -> str:
             strings = _number_strings(column)
             frame[name] = column.round(FLOAT_DIGITS) + 0.0 if strings is None else strings  # no "-0.0000"
         elif column.dtype == object or pd.api.types.is_string_dtype(column.dtype):
-            cells = column.map(_tsv_cell if sep == "\t" else text_cell)
+            cells = column.map(tsv_cell if sep == "\t" else text_cell)
             frame[name] = cells.map(neutralise_formula) if sep == "," else cells
     if sep == ",":
         return frame.to_csv(index=False, float_format=f"%.{FLOAT_DIGITS}f", na_rep="", lineterminator="\n",
